@@ -1,0 +1,1 @@
+"""The ``kappa`` command line (typer). One module per command; ``main`` composes them."""

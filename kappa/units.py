@@ -1,0 +1,124 @@
+"""The one gateway to the units library (pint).
+
+Everything inside kappa is SI floats; units are converted here, once, at the edge. Values are
+written ``"<number> <unit>"`` (``"6.08 km/s"``, ``"200 nm"``, ``"20.02 angstrom**3"``); a bare
+number means the unit documented for that key.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+import re
+
+from .errors import ConfigError, KappaError
+
+__all__ = ["registry", "parse_quantity", "parse_unit", "unit_factor", "format_quantity"]
+
+_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?inf|nan)\s*(.*?)\s*$",
+                     re.IGNORECASE)
+
+
+@functools.lru_cache(maxsize=1)
+def registry():
+    """Return the shared pint unit registry (built on first use, then cached)."""
+    import pint
+
+    ureg = pint.UnitRegistry(cache_folder=":auto:")
+    # Spellings common in lab files that pint does not know by default.
+    ureg.define("Ohm = ohm")
+    ureg.define("Ω = ohm")
+    return ureg
+
+
+@functools.lru_cache(maxsize=512)
+def _unit(text: str):
+    ureg = registry()
+    return ureg.parse_units(text.replace("µ", "u").replace("μ", "u"))
+
+
+def parse_unit(text: str, key: str, *, error: type[KappaError] = ConfigError):
+    """Parse a unit expression such as ``"W/(m K)"`` and return the pint unit.
+
+    Raises ``error`` naming ``key`` when the unit is unknown.
+    """
+    try:
+        return _unit(text.strip() or "dimensionless")
+    except Exception:  # pint raises several unrelated exception types for bad input
+        raise error(key, text, "unknown unit (write e.g. 'K', 'nm', 'km/s', 'W/(m K)')") from None
+
+
+def unit_factor(unit: str, target: str, key: str, *, error: type[KappaError] = ConfigError,
+                shown: object = None):
+    """Return ``(scale, offset)`` so that ``value_in_target = value * scale + offset``.
+
+    ``offset`` is non-zero only for temperatures given in degrees Celsius or Fahrenheit.
+    ``shown`` is the value quoted in an error message (default: the unit).
+    """
+    ureg = registry()
+    shown = unit if shown is None else shown
+    try:
+        src = _unit(unit.strip() or "dimensionless")
+    except Exception:  # pint raises several unrelated exception types for bad input
+        raise error(key, shown, "unknown unit (write e.g. 'K', 'nm', 'km/s', 'W/(m K)')") from None
+    dst = parse_unit(target, key, error=error)
+    if src.dimensionality != dst.dimensionality:
+        raise error(key, shown, f"wrong dimension: needs a unit of {_describe(dst)}")
+    q0 = ureg.Quantity(0.0, src).to(dst).magnitude
+    q1 = ureg.Quantity(1.0, src).to(dst).magnitude
+    return q1 - q0, q0
+
+
+def parse_quantity(value: object, target: str, key: str, *, bare: str | None = None,
+                   error: type[KappaError] = ConfigError) -> float:
+    """Convert ``value`` (a number, or a string ``"<number> <unit>"``) to a float in ``target``.
+
+    Parameters
+    ----------
+    value : float or str
+        The value as written by the user.
+    target : str
+        The unit the result is expressed in (kappa uses SI internally).
+    key : str
+        The name used in error messages.
+    bare : str, optional
+        The unit a bare number is read in; defaults to ``target``.
+    error : type
+        The error class to raise (``ConfigError`` for configs, ``DataError`` for tables).
+    """
+    if isinstance(value, bool) or value is None:
+        raise error(key, value, f"must be a number with a unit, e.g. '1.0 {target}'")
+    if isinstance(value, (int, float)):
+        number, unit = float(value), (bare or target)
+    elif isinstance(value, str):
+        match = _NUMBER.match(value)
+        if not match:
+            raise error(key, value, f"must be a number with a unit, e.g. '1.0 {target}'")
+        number = float(match.group(1))
+        unit = match.group(2) or (bare or target)
+    else:
+        raise error(key, value, f"must be a number with a unit, e.g. '1.0 {target}'")
+    if math.isnan(number):
+        raise error(key, value, "must be a number, not NaN")
+    if math.isinf(number):
+        raise error(key, value, "must be finite")
+    scale, offset = unit_factor(unit, target, key, error=error, shown=value)
+    return number * scale + offset
+
+
+def format_quantity(value: float, unit: str, digits: int = 12) -> str:
+    """Format an SI-converted value for a YAML file or a table: ``"1.5e-07 m"``."""
+    return f"{value:.{digits}g} {unit}" if unit not in ("", "1") else f"{value:.{digits}g}"
+
+
+def _describe(unit) -> str:
+    dim = str(unit.dimensionality)
+    names = {
+        "[temperature]": "temperature (e.g. K)",
+        "[length]": "length (e.g. nm, um, m)",
+        "[length] / [time]": "speed (e.g. m/s, km/s)",
+        "[mass]": "mass (e.g. u, kg)",
+        "[length] ** 3": "volume (e.g. angstrom**3, nm**3)",
+        "dimensionless": "a plain number",
+    }
+    return names.get(dim, dim)
