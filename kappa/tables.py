@@ -27,12 +27,17 @@ _HEADER = re.compile(r"^\s*([^\[\]]+?)\s*\[\s*([^\[\]]*?)\s*\]\s*$")
 
 @dataclass(frozen=True)
 class Column:
-    """One column as read: its name, the unit written in its header, and its values."""
+    """One column as read: its name, the unit written in its header, and its values.
+
+    ``blank`` marks the cells that were empty (as opposed to cells written ``nan``); both are
+    NaN in ``values``. It is None for columns not made by :func:`read_table`.
+    """
 
     name: str
     unit: str
     values: np.ndarray
     header: str
+    blank: np.ndarray | None = None
 
 
 @dataclass(frozen=True)
@@ -111,6 +116,7 @@ def read_table(path: str | Path) -> Table:
             raise DataError(f"{source}, header", h, "each column name may appear only once")
         names.append((name, unit))
     data = np.full((len(rows) - 1, len(headers)), np.nan)
+    blank = np.zeros(data.shape, dtype=bool)
     for i, row in enumerate(rows[1:]):
         if len(row) != len(headers):
             raise DataError(f"{source}, row {i + 2}", ",".join(row),
@@ -118,6 +124,7 @@ def read_table(path: str | Path) -> Table:
         for j, cell in enumerate(row):
             cell = cell.strip()
             if cell == "":
+                blank[i, j] = True
                 continue
             try:
                 data[i, j] = float(cell)
@@ -127,7 +134,8 @@ def read_table(path: str | Path) -> Table:
     if data.shape[0] == 0:
         raise DataError(source, allowed="has a header but no data rows")
     columns = {
-        n: Column(name=n, unit=u, values=data[:, j].copy(), header=headers[j])
+        n: Column(name=n, unit=u, values=data[:, j].copy(), header=headers[j],
+                  blank=blank[:, j].copy())
         for j, (n, u) in enumerate(names)
     }
     return Table(source=source, columns=columns)

@@ -55,15 +55,25 @@ def unit_factor(unit: str, target: str, key: str, *, error: type[KappaError] = C
     ``offset`` is non-zero only for temperatures given in degrees Celsius or Fahrenheit.
     ``shown`` is the value quoted in an error message (default: the unit).
     """
-    ureg = registry()
     shown = unit if shown is None else shown
+    result = _factor(unit.strip() or "dimensionless", target.strip() or "dimensionless")
+    if result == "unknown":
+        raise error(key, shown, "unknown unit (write e.g. 'K', 'nm', 'km/s', 'W/(m K)')")
+    if isinstance(result, str):
+        raise error(key, shown, f"wrong dimension: needs a unit of {result}")
+    return result
+
+
+@functools.lru_cache(maxsize=1024)
+def _factor(unit: str, target: str):
+    ureg = registry()
     try:
-        src = _unit(unit.strip() or "dimensionless")
+        src = _unit(unit)
     except Exception:  # pint raises several unrelated exception types for bad input
-        raise error(key, shown, "unknown unit (write e.g. 'K', 'nm', 'km/s', 'W/(m K)')") from None
-    dst = parse_unit(target, key, error=error)
+        return "unknown"
+    dst = _unit(target)
     if src.dimensionality != dst.dimensionality:
-        raise error(key, shown, f"wrong dimension: needs a unit of {_describe(dst)}")
+        return _describe(dst)
     q0 = ureg.Quantity(0.0, src).to(dst).magnitude
     q1 = ureg.Quantity(1.0, src).to(dst).magnitude
     return q1 - q0, q0

@@ -44,7 +44,7 @@ def _register() -> None:
 
 
 #: Command modules in ``kappa/cli/``; each defines ``register(app)``.
-COMMANDS: list[str] = []
+COMMANDS: list[str] = ["new", "check", "predict"]
 
 _register()
 

@@ -1,0 +1,62 @@
+"""``kappa check``: validate a config and print the resolved and derived values."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from . import common
+
+HELP = """Validate a config and print the resolved values, derived quantities and numeric keys.
+
+Examples:
+
+  kappa check configs/silicon.yaml
+
+  kappa check my.yaml --set scattering.boundary.grain_size=50nm
+"""
+
+
+def check_command(
+    config: Annotated[Path, typer.Argument(help="YAML config.", exists=True, dir_okay=False)],
+    set_: Annotated[list[str] | None, typer.Option("--set", help="Override KEY=VALUE "
+                                                   "(repeatable).")] = None,
+) -> None:
+    from ..config import load_config, numeric_keys, resolved_value
+    from ..units import registry
+
+    cfg = load_config(config, set_ or [])
+    ureg = registry()
+    m = cfg.material
+    typer.echo(f"{config}: valid")
+    typer.echo(f"material: {m.name or '(no name)'}; "
+               f"{'per-branch' if m.per_branch else 'averaged single-branch'} model")
+    typer.echo("numeric keys (value as used, SI converted to the display unit):")
+    for key, p in numeric_keys(cfg).items():
+        try:
+            v = resolved_value(cfg, key)
+        except Exception:  # a key absent from this config (e.g. longitudinal_velocity)
+            continue
+        mech = key.split(".")[1] if key.startswith("scattering.") else None
+        if mech and cfg.scattering.get(mech) is None:
+            continue
+        unit = p.display or p.unit
+        shown = ureg.Quantity(v, p.unit).to(unit).magnitude if unit != p.unit else v
+        typer.echo(f"  {key} = {shown:.6g}{'' if unit == '1' else ' ' + unit}")
+    active = [mech.key for mech in cfg.scattering.resistive]
+    typer.echo("resistive scattering: " + (", ".join(active) or "none"))
+    n = cfg.scattering.normal
+    typer.echo("normal processes: " + (f"form {n.form}" if n else "off"))
+    for key, text in cfg.derived.items():
+        typer.echo(f"derived: {key} = {text}")
+    if cfg.temperature is not None:
+        T = cfg.temperature
+        typer.echo(f"temperature: {T.size} points, {T.min():.6g} K to {T.max():.6g} K")
+    else:
+        typer.echo("temperature: (none; 'kappa predict' needs a temperature section)")
+
+
+def register(app: typer.Typer) -> None:
+    app.command("check", help=HELP)(common.handles_errors(check_command))

@@ -1,0 +1,92 @@
+"""``kappa predict``: κ_L(T) of a config as a table, a figure and a run record."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from . import common
+
+HELP = f"""Predict the lattice thermal conductivity κ_L(T) of a config.
+
+Writes OUT/kappa_L.csv (T, κ_L, κ_L with each resistive mechanism switched off, per-branch
+parts, Debye heat capacity), OUT/kappa_L.png and .svg, and OUT/run.json (resolved inputs,
+derived values, version, citations), and prints a short table.
+
+Examples:
+
+  kappa predict configs/silicon.yaml -o si-run
+
+  kappa predict my.yaml --set scattering.boundary.grain_size=50nm -o small-grains
+
+  kappa predict my.yaml --compare scattering.boundary.grain_size=1um,100nm,20nm -o grains
+
+{common.CAUTION}
+"""
+
+
+def predict_command(
+    config: Annotated[Path, typer.Argument(help="YAML config (see 'kappa new').",
+                                           exists=True, dir_okay=False, readable=True)],
+    out: Annotated[Path | None, typer.Option("-o", "--out", help="Output folder (default: a new "
+                                             "folder beside the config).")] = None,
+    force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")] = False,
+    set_: Annotated[list[str] | None, typer.Option("--set", help="Override a config value: "
+                                                   "KEY=VALUE (repeatable), e.g. "
+                                                   "scattering.boundary.grain_size=50nm")] = None,
+    compare_: Annotated[str | None, typer.Option("--compare", help="Overlay curves for several "
+                                                 "values of one key: KEY=V1,V2,...")] = None,
+) -> None:
+    from ..config import load_config
+    from ..outdir import check_out, default_out, output_folder
+    from ..predict import compare, model_summary, predict
+    from ..records import run_record, write_json
+    from ..tables import write_table
+
+    cfg = load_config(config, set_ or [])
+    out = out or default_out(config, "predict")
+    check_out(out, force=force, inputs=[config])
+    prediction = predict(cfg)
+    overlays = compare(cfg, compare_) if compare_ else []
+    columns = [("T [K]", prediction.temperature), ("kappa_L [W/(m K)]", prediction.kappa_L)]
+    if overlays:
+        columns += [(f"kappa_L({label}) [W/(m K)]", p.kappa_L) for label, p in overlays]
+    for key, k in prediction.without.items():
+        columns.append((f"kappa_L_without_{key} [W/(m K)]", k))
+    if cfg.material.per_branch:
+        for label, k in prediction.branches.items():
+            columns.append((f"kappa_L_{label} [W/(m K)]", k))
+    columns.append(("C_V [J/(mol K)]", prediction.heat_capacity))
+
+    from ..plots import plot_prediction, save
+
+    fig = plot_prediction(prediction, overlays)
+    record = run_record(
+        "predict",
+        config=str(config),
+        overrides=list(set_ or []),
+        compare=compare_,
+        resolved_inputs=cfg.data,
+        derived=cfg.derived,
+        model_si=model_summary(cfg),
+        outputs=["kappa_L.csv", "kappa_L.png", "kappa_L.svg", "run.json"],
+        citations=prediction.citations,
+        caution=common.CAUTION,
+    )
+    with output_folder(out, force=force, inputs=[config]) as tmp:
+        write_table(tmp / "kappa_L.csv", columns)
+        save(fig, tmp / "kappa_L")
+        write_json(tmp / "run.json", record)
+
+    for key, text in cfg.derived.items():
+        common.echo_err(f"derived: {key} = {text}")
+    headers = [h for h, _ in columns if not h.startswith("C_V")][:6]
+    rows = list(zip(*[v for h, v in columns if h in headers], strict=True))
+    common.print_table(headers, rows)
+    typer.echo(f"wrote {out}/kappa_L.csv, kappa_L.png, kappa_L.svg, run.json")
+
+
+def register(app: typer.Typer) -> None:
+    app.command("predict", help=HELP)(common.handles_errors(predict_command))

@@ -1,0 +1,96 @@
+"""numba kernels for the Callaway integrals.
+
+For every sample s (one branch at one temperature for one parameter set) the kernel evaluates,
+with the fixed rule of :mod:`kappa.quadrature` for that sample's upper limit,
+
+    I₁ = ∫ τ_c w dx,   I₂ = ∫ (τ_c/τ_N) w dx,   I₃ = ∫ (τ_c/(τ_N τ_R)) w dx,
+
+τ_R⁻¹ = Σ_k r_k x^k, τ_N⁻¹ = Σ_k n_k x^k, τ_c⁻¹ = τ_R⁻¹ + τ_N⁻¹ (coefficients already in powers of
+the reduced frequency x, rates in 1/s). The piece [0, x_s] below the rule is added by
+``_small_x``. Users never call these; see :mod:`kappa.conductivity`.
+"""
+
+from __future__ import annotations
+
+from numba import njit, prange
+
+__all__ = ["callaway_integrals"]
+
+# fastmath flags: reassociation lets the sums vectorise; no 'nnan'/'ninf' so that a NaN from bad
+# input would still show. cache=True: compiled once per machine, then loaded from __pycache__.
+_FAST = {"reassoc", "contract", "arcp", "nsz"}
+
+_TAIL_TOL = 1e-10  # stop the small-x blocks when x·f(x) at the block's end is below this × total
+_MAX_BLOCKS = 38  # 38 blocks of 8 decades reach below the smallest double
+
+
+@njit(cache=True, fastmath=_FAST)
+def _poly(c, x):  # pragma: no cover - compiled
+    return c[0] + x * (c[1] + x * (c[2] + x * (c[3] + x * c[4])))
+
+
+@njit(cache=True, fastmath=_FAST)
+def _terms(r, n, x, w):  # pragma: no cover - compiled
+    rr = _poly(r, x)
+    rn = _poly(n, x)
+    tc = w / (rr + rn)
+    return tc, tc * rn, tc * rn * rr
+
+
+@njit(cache=True)
+def _small_x(r, n, xs, bt, bq, i1, i2, i3):  # pragma: no cover - compiled
+    """Add ∫₀^{x_s} to (i1, i2, i3); w(x) = x²(1 − x²/12) holds to double precision there."""
+    lo = xs
+    for _ in range(_MAX_BLOCKS):
+        w_lo = lo * lo * (1.0 - lo * lo / 12.0)
+        f1, f2, f3 = _terms(r, n, lo, w_lo)
+        if (lo * f1 <= _TAIL_TOL * i1 and lo * f2 <= _TAIL_TOL * i2
+                and lo * f3 <= _TAIL_TOL * i3):
+            break
+        for i in range(bt.shape[0]):
+            x = lo * bt[i]
+            q = lo * bq[i] * x * x * (1.0 - x * x / 12.0)
+            a, b, c = _terms(r, n, x, q)
+            i1 += a
+            i2 += b
+            i3 += c
+        lo = lo * 1e-8
+    return i1, i2, i3
+
+
+@njit(cache=True, parallel=True, fastmath=_FAST)
+def callaway_integrals(x, wq, count, x_s, grid, res, nrm, bt, bq, out):  # pragma: no cover
+    """Fill ``out[s] = (I₁, I₂, I₃)`` for every sample s.
+
+    x, wq : (G, M) nodes and weight×phonon weight of G rules; count : (G,) used nodes;
+    x_s : (G,) lower ends of the rules; grid : (S,) rule index per sample;
+    res, nrm : (S, 5) coefficients; bt, bq : relative small-x block rule; out : (S, 3).
+    """
+    n_samples = grid.shape[0]
+    for s in prange(n_samples):
+        g = grid[s]
+        r = res[s]
+        nn = nrm[s]
+        r0, r1, r2, r3, r4 = r[0], r[1], r[2], r[3], r[4]
+        n0, n1, n2, n3, n4 = nn[0], nn[1], nn[2], nn[3], nn[4]
+        i1 = 0.0
+        i2 = 0.0
+        i3 = 0.0
+        m = count[g]
+        if n0 == 0.0 and n1 == 0.0 and n2 == 0.0 and n3 == 0.0 and n4 == 0.0:
+            for i in range(m):
+                xi = x[g, i]
+                i1 += wq[g, i] / (r0 + xi * (r1 + xi * (r2 + xi * (r3 + xi * r4))))
+        else:
+            for i in range(m):
+                xi = x[g, i]
+                rr = r0 + xi * (r1 + xi * (r2 + xi * (r3 + xi * r4)))
+                rn = n0 + xi * (n1 + xi * (n2 + xi * (n3 + xi * n4)))
+                tc = wq[g, i] / (rr + rn)
+                i1 += tc
+                i2 += tc * rn
+                i3 += tc * rn * rr
+        i1, i2, i3 = _small_x(r, nn, x_s[g], bt, bq, i1, i2, i3)
+        out[s, 0] = i1
+        out[s, 1] = i2
+        out[s, 2] = i3

@@ -1,0 +1,73 @@
+"""Figures (matplotlib object API; never touches pyplot's global state)."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from pathlib import Path
+
+import numpy as np
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.figure import Figure
+
+from .predict import Prediction
+
+__all__ = ["new_figure", "save", "plot_prediction"]
+
+_TITLES = {"umklapp": "Umklapp", "boundary": "boundary", "point_defect": "point defects"}
+
+
+def new_figure(width: float = 6.4, height: float = 4.4, nrows: int = 1, ncols: int = 1,
+               **kwargs) -> tuple[Figure, np.ndarray]:
+    """A figure with an Agg canvas and its axes (array)."""
+    fig = Figure(figsize=(width, height), layout="constrained")
+    FigureCanvasAgg(fig)
+    axes = fig.subplots(nrows, ncols, squeeze=False, **kwargs)
+    return fig, axes
+
+
+def save(fig: Figure, stem: str | Path, formats: Sequence[str] = ("png", "svg")) -> list[Path]:
+    """Write ``stem.png`` and ``stem.svg``; return the paths."""
+    paths = []
+    for fmt in formats:
+        p = Path(f"{stem}.{fmt}")
+        fig.savefig(p, dpi=150 if fmt == "png" else None)
+        paths.append(p)
+    return paths
+
+
+def _log_axes(T: np.ndarray) -> bool:
+    return T.min() > 0 and T.max() / T.min() >= 5.0
+
+
+def plot_prediction(prediction: Prediction, overlays: Sequence[tuple[str, Prediction]] = (),
+                    ax=None):
+    """κ_L(T): the model (solid), each mechanism switched off (dashed), optional overlays.
+
+    Returns the figure.
+    """
+    if ax is None:
+        fig, axes = new_figure()
+        ax = axes[0, 0]
+    else:
+        fig = ax.figure
+    T = prediction.temperature
+    name = prediction.config.material.name or "model"
+    if overlays:
+        for label, p in overlays:
+            ax.plot(p.temperature, p.kappa_L, lw=1.8, label=label)
+        ax.plot(T, prediction.kappa_L, color="black", lw=1.2, ls=":", label="config as written")
+    else:
+        ax.plot(T, prediction.kappa_L, color="black", lw=2.0, label="κ_L (all mechanisms)")
+        for key, k in prediction.without.items():
+            if np.all(np.isnan(k)):
+                continue
+            ax.plot(T, k, ls="--", lw=1.2, label=f"without {_TITLES.get(key, key)}")
+    if _log_axes(T):
+        ax.set_xscale("log")
+        ax.set_yscale("log")
+    ax.set_xlabel("T [K]")
+    ax.set_ylabel("κ_L [W/(m K)]")
+    ax.set_title(f"Lattice thermal conductivity: {name}")
+    ax.grid(True, which="both", alpha=0.3)
+    ax.legend(fontsize=8)
+    return fig

@@ -1,0 +1,99 @@
+"""Figures for the lattice/electronic split (matplotlib object API, Agg canvas, no pyplot)."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+from matplotlib.backends.backend_agg import FigureCanvasAgg  # noqa: TID251 - plotting module
+from matplotlib.figure import Figure  # noqa: TID251 - plotting module
+
+from .split import SplitResult
+
+__all__ = ["plot_split", "plot_kappa", "plot_lorenz", "plot_zT"]
+
+
+def _axes(ax: Any, figsize: tuple[float, float] = (6.0, 4.0)) -> Any:
+    if ax is not None:
+        return ax
+    fig = Figure(figsize=figsize, layout="constrained")
+    FigureCanvasAgg(fig)
+    return fig.add_subplot()
+
+
+def plot_kappa(result: SplitResult, ax: Any = None) -> Any:
+    """kappa, kappa_e and kappa_L (with 68 % bands) versus T; returns the Axes."""
+    ax = _axes(ax)
+    r = result
+    T = r.T
+    ax.plot(T, r.kappa, "o-", color="k", ms=3, label=r"$\kappa$ measured")
+    ax.plot(T, r.kappa_e, "-", color="tab:orange", label=r"$\kappa_e = L\sigma T$")
+    ax.fill_between(T, r.kappa_e_low, r.kappa_e_high, color="tab:orange", alpha=0.2, lw=0)
+    ax.plot(T, r.kappa_L, "-", color="tab:blue", lw=2,
+            label=rf"$\kappa_L$ ({r.lorenz_model})")
+    ax.fill_between(T, r.kappa_L_low, r.kappa_L_high, color="tab:blue", alpha=0.2, lw=0,
+                    label=r"$\kappa_L$ 68 % band")
+    if r.lorenz_model != "degenerate":
+        ax.plot(T, r.kappa_L_degenerate, "--", color="tab:blue", lw=1,
+                label=r"$\kappa_L$, $L$ degenerate")
+    if r.kappa_L_kim is not None and r.lorenz_model != "kim":
+        ax.plot(T, r.kappa_L_kim, ":", color="tab:blue", lw=1.2, label=r"$\kappa_L$, $L$ Kim")
+    if r.kappa_min is not None:
+        ax.plot(T, r.kappa_min, "-.", color="tab:gray", lw=1, label=r"$\kappa_{min}$ Cahill")
+    b = r.bipolar
+    if b is not None:
+        ax.plot(T, b.kappa_L_fit, "-", color="tab:green", lw=1,
+                label=rf"$A/T+B$ fit {b.fit_window[0]:.0f}-{b.fit_window[1]:.0f} K")
+        if b.onset is not None:
+            ax.axvline(b.onset, color="tab:red", lw=1, ls="--",
+                       label=f"bipolar onset {b.onset:.0f} K")
+    ax.set_xlabel("T [K]")
+    ax.set_ylabel(r"$\kappa$ [W/(m K)]")
+    ax.set_ylim(bottom=min(0.0, float(np.nanmin(r.kappa_L_low))))
+    ax.legend(fontsize=7, ncols=2)
+    return ax
+
+
+def plot_lorenz(result: SplitResult, ax: Any = None) -> Any:
+    """Lorenz number L(T) with its 68 % band; returns the Axes."""
+    ax = _axes(ax)
+    r = result
+    ax.plot(r.T, r.lorenz * 1e8, "-", color="tab:purple", label=f"L ({r.lorenz_model})")
+    ax.fill_between(r.T, r.lorenz_low * 1e8, r.lorenz_high * 1e8, color="tab:purple",
+                    alpha=0.2, lw=0)
+    ax.axhline(2.443, color="tab:gray", ls="--", lw=0.8, label="degenerate 2.44")
+    ax.axhline(1.485, color="tab:gray", ls=":", lw=0.8, label="non-degenerate 1.49")
+    ax.set_xlabel("T [K]")
+    ax.set_ylabel(r"$L$ [$10^{-8}$ W $\Omega$ K$^{-2}$]")
+    ax.legend(fontsize=7)
+    return ax
+
+
+def plot_zT(result: SplitResult, ax: Any = None) -> Any:
+    """zT versus T with its 68 % band (a note when there is no Seebeck data); returns the Axes."""
+    ax = _axes(ax)
+    r = result
+    if r.zT is None:
+        ax.text(0.5, 0.5, "no Seebeck data: zT not computed", ha="center", va="center",
+                transform=ax.transAxes)
+    else:
+        ax.plot(r.T, r.zT, "-", color="tab:red")
+        ax.fill_between(r.T, r.zT_low, r.zT_high, color="tab:red", alpha=0.2, lw=0)
+    ax.set_xlabel("T [K]")
+    ax.set_ylabel("zT [1]")
+    return ax
+
+
+def plot_split(result: SplitResult, title: str = "") -> Figure:
+    """Three panels: kappa/kappa_e/kappa_L with bands, L(T), zT(T). Returns a new Figure."""
+    fig = Figure(figsize=(6.4, 9.0), layout="constrained")
+    FigureCanvasAgg(fig)
+    a1, a2, a3 = fig.subplots(3, 1, sharex=True, height_ratios=[2.2, 1, 1])
+    plot_kappa(result, a1)
+    plot_lorenz(result, a2)
+    plot_zT(result, a3)
+    a1.set_xlabel("")
+    a2.set_xlabel("")
+    if title:
+        fig.suptitle(title, fontsize=10)
+    return fig
