@@ -13,9 +13,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from . import quadrature as _q
 from .constants import hbar, k_B
 from .errors import ConfigError
-from .kernels import callaway_integrals
+from .kernels import callaway_integrals, callaway_integrals_free
 from .material import Material
 from .quadrature import X_CUT, block_rule, rules
 from .scattering import NPOW, Scattering
@@ -27,6 +28,7 @@ __all__ = [
     "branch_conductivities",
     "conductivity_from_rates",
     "check_convergence",
+    "branch_prefactors",
 ]
 
 
@@ -94,16 +96,27 @@ def conductivity_from_rates(x_top: np.ndarray, prefactor: np.ndarray, res_omega:
     ndarray, shape (S,)
         Contribution of each sample to κ_L [W/(m K)].
     """
-    scale = (k_B * np.asarray(T, dtype=float) / hbar)[:, None] ** np.arange(NPOW)
+    wt = k_B * np.asarray(T, dtype=float) / hbar
+    scale = np.empty((wt.size, NPOW))
+    scale[:, 0] = 1.0
+    for k in range(1, NPOW):
+        scale[:, k] = scale[:, k - 1] * wt
     res_x = np.ascontiguousarray(res_omega * scale)
     nrm_x = np.ascontiguousarray(nrm_omega * scale)
     tops = np.minimum(np.asarray(x_top, dtype=float), X_CUT)
-    uniq, grid = np.unique(tops, return_inverse=True)
-    xx, wq, count, x_s = rules(uniq)
     bt, bq = _BLOCK
     out = np.empty((tops.size, 3))
-    callaway_integrals(xx, wq, count, x_s, grid.astype(np.int64).ravel(), res_x, nrm_x, bt, bq,
-                       out)
+    uniq, grid = np.unique(tops, return_inverse=True)
+    if uniq.size > 64 and uniq.size > tops.size // 4:
+        # nearly every sample has its own upper limit: build rules inside the kernel
+        log_t, log_q, lin_t, lin_q = _FREE
+        log_w = _q.phonon_weight(_q.X_SWITCH * log_t)
+        callaway_integrals_free(np.ascontiguousarray(tops), res_x, nrm_x, log_t, log_q, log_w,
+                                lin_t, lin_q, _q.X_SWITCH, _q.EPS_LOW, _q.LIN_WIDTH, bt, bq, out)
+    else:
+        xx, wq, count, x_s = rules(uniq)
+        callaway_integrals(xx, wq, count, x_s, grid.astype(np.int64).ravel(), res_x, nrm_x,
+                           bt, bq, out)
     i1, i2, i3 = out[:, 0], out[:, 1], out[:, 2]
     with np.errstate(invalid="ignore", divide="ignore"):
         corr = np.where(i3 > 0, i2 * i2 / np.where(i3 > 0, i3, 1.0), 0.0)
@@ -111,9 +124,15 @@ def conductivity_from_rates(x_top: np.ndarray, prefactor: np.ndarray, res_omega:
 
 
 _BLOCK = block_rule()
+_FREE = (*_q.relative_log_rule(), *_q.linear_nodes())
 
 
-def _prefactors(material: Material, T: np.ndarray) -> np.ndarray:
+def branch_prefactors(material: Material, T: np.ndarray) -> np.ndarray:
+    """(n_j/3) k_B/(2π² v_j) (k_B T/ħ)³ for every branch and temperature, shape (nB, nT).
+
+    Multiplied by the dimensionless-in-x integral (I₁ + I₂²/I₃) [s] it gives κ_j [W/(m K)].
+    """
+    T = np.asarray(T, dtype=float)
     pre = np.empty((len(material.branches), T.size))
     cube = (k_B * T / hbar) ** 3
     for j, b in enumerate(material.branches):
@@ -143,7 +162,7 @@ def branch_conductivities(material: Material, scattering: Scattering, T,
                                                    else "the configured mechanisms"))
     nb = len(material.branches)
     x_top = np.array([[b.debye_temperature / t for t in T] for b in material.branches])
-    pre = _prefactors(material, T)
+    pre = branch_prefactors(material, T)
     TT = np.broadcast_to(T, (nb, T.size))
     k = conductivity_from_rates(x_top.ravel(), pre.ravel(),
                                 tables.resistive.reshape(-1, NPOW),

@@ -12,9 +12,10 @@ the reduced frequency x, rates in 1/s). The piece [0, x_s] below the rule is add
 
 from __future__ import annotations
 
+import numpy as np
 from numba import njit, prange
 
-__all__ = ["callaway_integrals"]
+__all__ = ["callaway_integrals", "callaway_integrals_free"]
 
 # fastmath flags: reassociation lets the sums vectorise; no 'nnan'/'ninf' so that a NaN from bad
 # input would still show. cache=True: compiled once per machine, then loaded from __pycache__.
@@ -91,6 +92,63 @@ def callaway_integrals(x, wq, count, x_s, grid, res, nrm, bt, bq, out):  # pragm
                 i2 += tc * rn
                 i3 += tc * rn * rr
         i1, i2, i3 = _small_x(r, nn, x_s[g], bt, bq, i1, i2, i3)
+        out[s, 0] = i1
+        out[s, 1] = i2
+        out[s, 2] = i3
+
+
+@njit(cache=True, fastmath=_FAST)
+def _weight(x):  # pragma: no cover - compiled
+    """x⁴eˣ/(eˣ−1)² = x⁴e⁻ˣ/(1−e⁻ˣ)² (x > 0); a series below x = 0.05 (error < 3e-16)."""
+    if x < 0.05:
+        x2 = x * x
+        return x2 * (1.0 + x2 * (-1.0 / 12.0 + x2 * (1.0 / 240.0 - x2 / 6048.0)))
+    em = np.exp(-x)
+    d = -np.expm1(-x)
+    return x * x * x * x * em / (d * d)
+
+
+@njit(cache=True, parallel=True, fastmath=_FAST)
+def callaway_integrals_free(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q, x_switch,
+                            eps_low, lin_width, bt, bq, out):  # pragma: no cover - compiled
+    """As :func:`callaway_integrals`, but builds each sample's rule on the fly.
+
+    Used when nearly every sample has its own upper limit (no rule to share). The rule is the
+    one of :func:`kappa.quadrature.rule`: ``log_t, log_q`` are the log-panel nodes and weights
+    relative to x_m (x = x_m·t, dx = x_m·q), ``log_w`` the phonon weight at x_switch·t (the
+    common case x_m = x_switch), ``lin_t, lin_q`` Gauss–Legendre nodes and weights on [−1, 1]
+    for the linear panels.
+    """
+    n_samples = x_top.shape[0]
+    for s in prange(n_samples):
+        r = res[s]
+        nn = nrm[s]
+        top = x_top[s]
+        x_m = min(top, x_switch)
+        i1 = 0.0
+        i2 = 0.0
+        i3 = 0.0
+        shared = x_m == x_switch
+        for i in range(log_t.shape[0]):
+            xi = x_m * log_t[i]
+            wq = x_m * log_q[i] * (log_w[i] if shared else _weight(xi))
+            a1, a2, a3 = _terms(r, nn, xi, wq)
+            i1 += a1
+            i2 += a2
+            i3 += a3
+        if top > x_m:
+            n_lin = int(np.ceil((top - x_m) / lin_width - 1e-12))
+            h = (top - x_m) / n_lin
+            for p in range(n_lin):
+                a = x_m + p * h
+                for i in range(lin_t.shape[0]):
+                    xi = a + 0.5 * h * (lin_t[i] + 1.0)
+                    wq = 0.5 * h * lin_q[i] * _weight(xi)
+                    a1, a2, a3 = _terms(r, nn, xi, wq)
+                    i1 += a1
+                    i2 += a2
+                    i3 += a3
+        i1, i2, i3 = _small_x(r, nn, x_m * eps_low, bt, bq, i1, i2, i3)
         out[s, 0] = i1
         out[s, 1] = i2
         out[s, 2] = i3

@@ -11,7 +11,9 @@ from matplotlib.figure import Figure
 
 from .predict import Prediction
 
-__all__ = ["new_figure", "save", "plot_prediction"]
+__all__ = ["new_figure", "save", "plot_prediction", "log_axes", "KAPPA_L_LABEL"]
+
+KAPPA_L_LABEL = r"$\kappa_L$ [W/(m K)]"
 
 _TITLES = {"umklapp": "Umklapp", "boundary": "boundary", "point_defect": "point defects"}
 
@@ -39,6 +41,20 @@ def _log_axes(T: np.ndarray) -> bool:
     return T.min() > 0 and T.max() / T.min() >= 5.0
 
 
+def log_axes(ax, x: bool = True, y: bool = True) -> None:
+    """Log scales with plain-number tick labels at 1, 2, 5 × 10ⁿ (no overlapping minor labels)."""
+    from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
+
+    fmt = FuncFormatter(lambda v, _: f"{v:g}")
+    for flag, axis, setter in ((x, ax.xaxis, ax.set_xscale), (y, ax.yaxis, ax.set_yscale)):
+        if not flag:
+            continue
+        setter("log")
+        axis.set_major_locator(LogLocator(base=10, subs=(1.0, 2.0, 5.0)))
+        axis.set_major_formatter(fmt)
+        axis.set_minor_formatter(NullFormatter())
+
+
 def plot_prediction(prediction: Prediction, overlays: Sequence[tuple[str, Prediction]] = (),
                     ax=None):
     """κ_L(T): the model (solid), each mechanism switched off (dashed), optional overlays.
@@ -57,16 +73,15 @@ def plot_prediction(prediction: Prediction, overlays: Sequence[tuple[str, Predic
             ax.plot(p.temperature, p.kappa_L, lw=1.8, label=label)
         ax.plot(T, prediction.kappa_L, color="black", lw=1.2, ls=":", label="config as written")
     else:
-        ax.plot(T, prediction.kappa_L, color="black", lw=2.0, label="κ_L (all mechanisms)")
+        ax.plot(T, prediction.kappa_L, color="black", lw=2.0, label=r"$\kappa_L$ (all mechanisms)")
         for key, k in prediction.without.items():
             if np.all(np.isnan(k)):
                 continue
             ax.plot(T, k, ls="--", lw=1.2, label=f"without {_TITLES.get(key, key)}")
     if _log_axes(T):
-        ax.set_xscale("log")
-        ax.set_yscale("log")
+        log_axes(ax)
     ax.set_xlabel("T [K]")
-    ax.set_ylabel("κ_L [W/(m K)]")
+    ax.set_ylabel(KAPPA_L_LABEL)
     ax.set_title(f"Lattice thermal conductivity: {name}")
     ax.grid(True, which="both", alpha=0.3)
     ax.legend(fontsize=8)

@@ -9,8 +9,8 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
-from .config import Config, config_from_dict, parse_override, set_value
 from .conductivity import branch_conductivities
+from .config import Config, config_from_dict, parse_override, set_value
 from .errors import ConfigError, KappaError
 from .heat_capacity import heat_capacity
 

@@ -23,7 +23,8 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["X_CUT", "rule", "rules", "lower_end", "block_rule", "phonon_weight", "MAX_NODES"]
+__all__ = ["X_CUT", "rule", "rules", "lower_end", "block_rule", "phonon_weight", "MAX_NODES",
+           "relative_log_rule", "linear_nodes", "X_SWITCH", "EPS_LOW", "LIN_WIDTH"]
 
 X_CUT = 40.0  #: upper cut of the x integral (w(40)·40 < 1e-9 of ∫w)
 X_SWITCH = 2.0  #: change from log-spaced to linear panels
@@ -116,6 +117,33 @@ def block_rule() -> tuple[np.ndarray, np.ndarray]:
     return np.concatenate(ts), np.concatenate(qs)
 
 
+_CACHE: dict[float, tuple[np.ndarray, np.ndarray]] = {}
+_CACHE_SIZE = 20_000
+
+
+def _weighted_rule(top: float) -> tuple[np.ndarray, np.ndarray]:
+    """Nodes and q·w(x) for one upper limit, memoised (fits and sweeps reuse temperatures)."""
+    hit = _CACHE.get(top)
+    if hit is None:
+        x, q = rule(top)
+        hit = (x, q * phonon_weight(x))
+        if len(_CACHE) >= _CACHE_SIZE:
+            _CACHE.clear()
+        _CACHE[top] = hit
+    return hit
+
+
+def relative_log_rule() -> tuple[np.ndarray, np.ndarray]:
+    """Log-panel nodes t and weights q relative to x_m: x = x_m·t, dx = x_m·q."""
+    x, q = rule(1.0)  # x_top = 1 → x_m = 1, log panels only
+    return x, q
+
+
+def linear_nodes() -> tuple[np.ndarray, np.ndarray]:
+    """Gauss–Legendre nodes and weights on [−1, 1] used by the linear panels."""
+    return _GL[LIN_NODES]
+
+
 def rules(x_top: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Rules for many upper limits, padded to :data:`MAX_NODES`.
 
@@ -136,13 +164,8 @@ def rules(x_top: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.nda
     wq = np.zeros((n, MAX_NODES))
     count = np.zeros(n, dtype=np.int64)
     x_s = np.array([lower_end(t) for t in x_top])
-    cache: dict[float, tuple[np.ndarray, np.ndarray]] = {}
     for i, top in enumerate(x_top):
-        key = float(min(top, X_CUT))
-        if key not in cache:
-            x, q = rule(key)
-            cache[key] = (x, q * phonon_weight(x))
-        x, w = cache[key]
+        x, w = _weighted_rule(float(min(top, X_CUT)))
         xx[i, : x.size] = x
         wq[i, : x.size] = w
         count[i] = x.size

@@ -37,6 +37,7 @@ __all__ = [
     "umklapp_coefficient",
     "boundary_rate",
     "point_defect_coefficient",
+    "normal_branch_coefficient",
 ]
 
 NPOW = 5  #: rates are polynomials in ω of degree < NPOW
@@ -158,6 +159,25 @@ def point_defect_coefficient(atomic_volume, sound_velocity, mass_variance, strai
     Source: Klemens, Proc. Phys. Soc. A 68, 1113 (1955).
     """
     return atomic_volume * (mass_variance + strain_variance) / (4.0 * math.pi * sound_velocity**3)
+
+
+def normal_branch_coefficient(gruneisen, atomic_mass, atomic_volume, sound_velocity, T,
+                              polarization: str, scale=1.0):
+    """Normal-process rate of one branch in the branch forms: ``(power of ω, coefficient)``.
+
+    Longitudinal: k_B³γ²V₀ω²T³/(M̄ħ²v⁵) → (2, coefficient [s]); transverse:
+    k_B⁴γ²V₀ωT⁴/(M̄ħ³v⁵) → (1, coefficient [1]); times ``scale``. In x = ħω/(k_B T) both read
+    k_B⁵γ²V₀xⁿT⁵/(M̄ħ⁴v⁵). Source: Morelli, Heremans & Slack, Phys. Rev. B 66, 195304 (2002).
+    """
+    T = np.asarray(T, dtype=float)
+    pre = scale * gruneisen**2 * atomic_volume / (atomic_mass * sound_velocity**5)
+    if polarization == "longitudinal":
+        return 2, pre * k_B**3 / hbar**2 * T**3
+    if polarization == "transverse":
+        return 1, pre * k_B**4 / hbar**3 * T**4
+    raise ConfigError("scattering.normal.form", "branch",
+                      "the branch forms need a per-branch material (material.branches); "
+                      "use form: ratio for the averaged model")
 
 
 def _zeros(T: np.ndarray) -> np.ndarray:
@@ -293,17 +313,10 @@ class Normal(Mechanism):
             if u is not None:
                 c = self.ratio * u.coefficients(material, branch, T, scattering)
             return c
-        T = np.asarray(T, dtype=float)
-        v, g = branch.sound_velocity, branch.gruneisen
-        pre = self.scale * g**2 * material.atomic_volume / (material.atomic_mass * v**5)
-        if branch.polarization == "longitudinal":
-            c[2] = pre * k_B**3 / hbar**2 * T**3
-        elif branch.polarization == "transverse":
-            c[1] = pre * k_B**4 / hbar**3 * T**4
-        else:
-            raise ConfigError("scattering.normal.form", "branch",
-                              "the branch forms need a per-branch material (material.branches); "
-                              "use form: ratio for the averaged model")
+        power, coefficient = normal_branch_coefficient(
+            branch.gruneisen, material.atomic_mass, material.atomic_volume,
+            branch.sound_velocity, T, branch.polarization, self.scale)
+        c[power] = coefficient
         return c
 
 

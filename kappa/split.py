@@ -41,7 +41,6 @@ from dataclasses import dataclass, field
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .constants import e
 from .electronic import (
     LORENZ_DEGENERATE,
     LORENZ_MODELS,
@@ -469,8 +468,3 @@ def split(T: ArrayLike, kappa: ArrayLike, sigma: ArrayLike, seebeck: ArrayLike |
                               uncertainty=uncertainty, draws=draws, seed=seed,
                               fit_window=fit_window, number_density=number_density,
                               sound_velocities=sound_velocities)
-
-
-def gap_in_eV(gap: float) -> float:
-    """Convert an energy [J] to eV (for reports)."""
-    return gap / e

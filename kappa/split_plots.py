@@ -5,8 +5,8 @@ from __future__ import annotations
 from typing import Any
 
 import numpy as np
-from matplotlib.backends.backend_agg import FigureCanvasAgg  # noqa: TID251 - plotting module
-from matplotlib.figure import Figure  # noqa: TID251 - plotting module
+from matplotlib.backends.backend_agg import FigureCanvasAgg
+from matplotlib.figure import Figure
 
 from .split import SplitResult
 

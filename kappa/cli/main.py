@@ -21,17 +21,21 @@ app = typer.Typer(
 )
 
 
-@app.callback()
-def _main(
-    debug: Annotated[bool, typer.Option("--debug", help="Show full tracebacks on errors.")] = False,
-    version: Annotated[bool, typer.Option("--version", help="Print the version and exit.")] = False,
-) -> None:
-    common.set_debug(debug)
-    if version:
+def _print_version(flag: bool) -> None:
+    if flag:
         from ..records import version as _version
 
         typer.echo(f"kappa {_version()}")
         raise typer.Exit(0)
+
+
+@app.callback()
+def _main(
+    debug: Annotated[bool, typer.Option("--debug", help="Show full tracebacks on errors.")] = False,
+    version: Annotated[bool, typer.Option("--version", help="Print the version and exit.",
+                                          callback=_print_version, is_eager=True)] = False,
+) -> None:
+    common.set_debug(debug)
 
 
 def _register() -> None:
@@ -44,7 +48,7 @@ def _register() -> None:
 
 
 #: Command modules in ``kappa/cli/``; each defines ``register(app)``.
-COMMANDS: list[str] = ["new", "check", "predict"]
+COMMANDS: list[str] = ["new", "check", "predict", "split", "fit", "sweep", "spectrum"]
 
 _register()
 

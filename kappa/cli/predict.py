@@ -23,6 +23,12 @@ Examples:
 
   kappa predict my.yaml --compare scattering.boundary.grain_size=1um,100nm,20nm -o grains
 
+  kappa predict fit1/fitted.yaml --band --draws 400 --seed 1 -o fit1-band
+
+--band (for a fitted.yaml written by 'kappa fit') draws parameter sets from the fit's
+covariance (fit.json beside the config) and adds the 16th/84th percentiles of κ_L as
+kappa_L_low/kappa_L_high columns and a shaded band.
+
 {common.CAUTION}
 """
 
@@ -38,6 +44,11 @@ def predict_command(
                                                    "scattering.boundary.grain_size=50nm")] = None,
     compare_: Annotated[str | None, typer.Option("--compare", help="Overlay curves for several "
                                                  "values of one key: KEY=V1,V2,...")] = None,
+    band: Annotated[bool, typer.Option("--band", help="68 % band from the fit covariance in "
+                                       "fit.json beside a fitted.yaml.")] = False,
+    draws: Annotated[int, typer.Option("--draws", min=10, help="Parameter draws for --band.")
+                     ] = 400,
+    seed: Annotated[int, typer.Option("--seed", help="Seed of the --band draws.")] = 1,
 ) -> None:
     from ..config import load_config
     from ..outdir import check_out, default_out, output_folder
@@ -51,6 +62,14 @@ def predict_command(
     prediction = predict(cfg)
     overlays = compare(cfg, compare_) if compare_ else []
     columns = [("T [K]", prediction.temperature), ("kappa_L [W/(m K)]", prediction.kappa_L)]
+    fit_band = None
+    if band:
+        from ..fit import prediction_band, read_fit_record
+
+        fit_band = prediction_band(cfg, read_fit_record(config.parent / "fit.json"),
+                                   prediction.temperature, draws, seed)
+        columns += [("kappa_L_low [W/(m K)]", fit_band.low),
+                    ("kappa_L_high [W/(m K)]", fit_band.high)]
     if overlays:
         columns += [(f"kappa_L({label}) [W/(m K)]", p.kappa_L) for label, p in overlays]
     for key, k in prediction.without.items():
@@ -63,11 +82,20 @@ def predict_command(
     from ..plots import plot_prediction, save
 
     fig = plot_prediction(prediction, overlays)
+    if fit_band is not None:
+        from ..fit_plots import add_band
+
+        add_band(fig.axes[0], fit_band.temperature, fit_band.low, fit_band.high)
     record = run_record(
         "predict",
         config=str(config),
         overrides=list(set_ or []),
         compare=compare_,
+        band=None if fit_band is None else {
+            "source": str(config.parent / "fit.json"), "draws": draws, "seed": seed,
+            "accepted": fit_band.draws, "rejected": fit_band.rejected,
+            "keys": list(fit_band.keys),
+            "columns": "kappa_L_low/kappa_L_high: 16th/84th percentiles over the draws"},
         resolved_inputs=cfg.data,
         derived=cfg.derived,
         model_si=model_summary(cfg),

@@ -1,0 +1,133 @@
+"""Benchmark of the Callaway kernel and of `kappa predict` (a script, not a test).
+
+Prints, in one run:
+  * κ_L points per second of the numba kernel, with 1 thread and with all threads;
+  * the same for a per-point ``scipy.integrate.quad`` loop at matched accuracy, and the ratio;
+  * the largest relative difference between the two (accuracy check, target ≤ 1e-6);
+  * the wall time of ``kappa predict`` on a 100-point curve with a warm compile cache.
+
+Run:  python benchmarks/bench_kernel.py  [--points 200000] [--quad-points 300]
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import numba
+import numpy as np
+from scipy.integrate import quad
+
+from kappa.conductivity import conductivity_from_rates
+from kappa.constants import hbar, k_B
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def make_samples(n: int, seed: int = 1):
+    """Random but realistic samples: one averaged branch, T 20–900 K, mixed scattering."""
+    rng = np.random.default_rng(seed)
+    T = rng.uniform(20.0, 900.0, n)
+    theta = np.full(n, 645.0)
+    v = np.full(n, 6084.0)
+    mass, gamma, vol = 28.0855 * 1.66054e-27, 1.0, 20.02e-30
+    res = np.zeros((n, 5))
+    res[:, 0] = v / 10 ** rng.uniform(-7.5, -3.0, n)  # boundary v/L
+    res[:, 2] = hbar * gamma**2 / (mass * v**2 * theta) * T * np.exp(-theta / (3 * T))
+    res[:, 4] = vol * 10 ** rng.uniform(-5.0, -1.0, n) / (4 * math.pi * v**3)
+    nrm = np.zeros((n, 5))
+    pre = k_B / (2 * math.pi**2 * v) * (k_B * T / hbar) ** 3
+    return theta / T, pre, res, nrm, T
+
+
+def quad_point(x_top, pre, res, T, epsrel=1e-8):
+    wt = k_B * T / hbar
+    d = res * wt ** np.arange(5)
+
+    def f(x):
+        if x == 0.0:
+            return 0.0
+        return x**4 * math.exp(-x) / (-math.expm1(-x)) ** 2 / (
+            d[0] + x * (d[1] + x * (d[2] + x * (d[3] + x * d[4]))))
+
+    top = min(x_top, 60.0)
+    return pre * quad(f, 0.0, top, epsabs=0.0, epsrel=epsrel, limit=500)[0]
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--points", type=int, default=200_000)
+    ap.add_argument("--quad-points", type=int, default=300)
+    args = ap.parse_args()
+
+    x_top, pre, res, nrm, T = make_samples(args.points)
+    conductivity_from_rates(x_top[:10], pre[:10], res[:10], nrm[:10], T[:10])  # compile/load
+
+    def rate(xt, p, r, n, t):
+        best = math.inf
+        for _ in range(3):
+            t0 = time.perf_counter()
+            out = conductivity_from_rates(xt, p, r, n, t)
+            best = min(best, time.perf_counter() - t0)
+        return xt.size / best, out
+
+    # (a) worst case: every point at its own temperature, so no quadrature rule is shared
+    rates = {}
+    for threads in sorted({1, numba.config.NUMBA_NUM_THREADS}):
+        numba.set_num_threads(threads)
+        rates[threads], kernel = rate(x_top, pre, res, nrm, T)
+    # (b) the designed use: many parameter sets on one grid of 100 temperatures
+    grid_T = np.repeat(np.linspace(20.0, 900.0, 100)[None, :], args.points // 100, 0).ravel()
+    gx, gp, gr, gn, _ = make_samples(grid_T.size, seed=2)
+    gx = 645.0 / grid_T
+    gp = k_B / (2 * math.pi**2 * 6084.0) * (k_B * grid_T / hbar) ** 3
+    gr[:, 2] = (hbar / (28.0855 * 1.66054e-27 * 6084.0**2 * 645.0) * grid_T
+                * np.exp(-645.0 / (3 * grid_T)))
+    shared = {}
+    for threads in sorted({1, numba.config.NUMBA_NUM_THREADS}):
+        numba.set_num_threads(threads)
+        shared[threads], _ = rate(gx, gp, gr, gn, grid_T)
+    numba.set_num_threads(numba.config.NUMBA_NUM_THREADS)
+
+    nq = args.quad_points
+    t0 = time.perf_counter()
+    ref = np.array([quad_point(x_top[i], pre[i], res[i], T[i]) for i in range(nq)])
+    quad_rate = nq / (time.perf_counter() - t0)
+    err = np.max(np.abs(kernel[:nq] / ref - 1))
+
+    nt = max(rates)
+    print(f"scipy quad loop (epsrel 1e-8), 1 core:          {quad_rate:10.3e} κ_L points/s")
+    print("(a) every point its own temperature (no shared rule):")
+    print(f"    kernel, 1 thread:   {rates[1]:10.3e} points/s   ratio to quad {rates[1] / quad_rate:7.0f}x")
+    print(f"    kernel, {nt} threads:  {rates[nt]:10.3e} points/s   ratio to quad {rates[nt] / quad_rate:7.0f}x")
+    print("(b) parameter sets on a shared 100-temperature grid (predict, fits, sweeps):")
+    print(f"    kernel, 1 thread:   {shared[1]:10.3e} points/s   ratio to quad {shared[1] / quad_rate:7.0f}x"
+          "  (target ≥ 1000x)")
+    print(f"    kernel, {nt} threads:  {shared[nt]:10.3e} points/s   ratio to quad "
+          f"{shared[nt] / quad_rate:7.0f}x")
+    print(f"max relative difference kernel vs quad on {nq} points: {err:.2e} (target ≤ 1e-6)")
+    print("per-core throughput target 1e6 points/s: "
+          f"{'met' if min(rates[1], shared[1]) >= 1e6 else 'NOT met'} in both cases")
+
+    with tempfile.TemporaryDirectory() as tmp:
+        cfg = Path(tmp) / "bench.yaml"
+        cfg.write_text((ROOT / "configs" / "silicon.yaml").read_text().replace(
+            "points: 99", "points: 100"), encoding="utf-8")
+        cmd = [sys.executable, "-m", "kappa", "predict", str(cfg), "--force", "-o"]
+        subprocess.run([*cmd, str(Path(tmp) / "warm")], check=True, capture_output=True)
+        walls = []
+        for k in range(3):
+            t0 = time.perf_counter()
+            subprocess.run([*cmd, str(Path(tmp) / f"o{k}")], check=True, capture_output=True)
+            walls.append(time.perf_counter() - t0)
+    print(f"kappa predict, 100-point curve, warm cache: {min(walls):.2f} s wall "
+          "(target < 1.5 s)")
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,5 @@
+"""``python -m kappa`` runs the command line."""
+
+from .cli.main import run
+
+run()

@@ -1,0 +1,290 @@
+"""``kappa fit``: fit model parameters to measured κ_L(T) (one sample or a series)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from . import common
+
+HELP = f"""Fit free parameters of a config to measured lattice conductivity κ_L(T).
+
+DATA is a CSV with 'T [K]' and 'kappa_L [W/(m K)]' (any units of the right dimension), e.g. the
+split.csv of 'kappa split'. With a 'kappa_L_err' column (or 'kappa_L_low'/'kappa_L_high', read
+as a 68 % band) the residuals are weighted by the uncertainties; without, relative residuals
+are used and the errors are scaled by the residual scatter.
+
+Free keys are dotted config keys (see 'kappa check'); KEY=START also sets the start value
+(needed for a mechanism that is not in the config). Log-space fit for positive quantities;
+several seeded starts; standard errors, correlations, AIC/BIC, and warnings for parameters at
+bounds, strongly correlated pairs, parameters the data do not need, and high-temperature
+upturns (bipolar conduction).
+
+Writes OUT/fitted.yaml (the config with fitted values; runs in 'kappa predict'), OUT/fit.json
+(fitted keys and covariance, read by 'kappa predict fitted.yaml --band'), OUT/parameters.csv,
+OUT/correlation.csv, OUT/residuals.csv, OUT/fit.png/.svg and OUT/run.json. A series writes the
+combined tables and figure, and OUT/samples/NAME/ with each sample's fitted.yaml, fit.json
+and residuals.csv.
+
+\b
+Examples:
+  kappa fit configs/silicon.yaml si.csv --free material.branches.0.gruneisen \\
+      --free material.branches.1.gruneisen -o si-fit
+  kappa fit my.yaml split.csv --free material.gruneisen \\
+      --free scattering.boundary.grain_size=1um --bounds scattering.boundary.grain_size=10nm:1mm \\
+      --window 100K:600K -o fit1
+  kappa fit --series series.yaml -o series-fit
+  kappa predict fit1/fitted.yaml --band -o fit1-band
+
+{common.CAUTION}
+"""
+
+
+def _bounds(items: list[str]) -> dict[str, str]:
+    from ..errors import ConfigError
+
+    out: dict[str, str] = {}
+    for item in items:
+        key, _, text = item.partition("=")
+        key, text = key.strip(), text.strip()
+        if not key or not text:
+            raise ConfigError("--bounds", item, "must be KEY=LOW:HIGH, e.g. "
+                              "scattering.boundary.grain_size=10nm:1mm")
+        out[key] = text
+    return out
+
+
+def fit_command(
+    config: Annotated[Path | None, typer.Argument(help="YAML config (the model to fit).",
+                                                  exists=True, dir_okay=False)] = None,
+    data: Annotated[Path | None, typer.Argument(help="CSV with 'T [K]' and 'kappa_L [W/(m K)]'.",
+                                                exists=True, dir_okay=False)] = None,
+    free: Annotated[list[str] | None, typer.Option("--free", help="Key to fit, KEY or "
+                                                   "KEY=START (repeatable).")] = None,
+    bounds: Annotated[list[str] | None, typer.Option("--bounds", help="KEY=LOW:HIGH with "
+                                                     "units (repeatable).")] = None,
+    window: Annotated[str | None, typer.Option("--window", help="Fit only LOW:HIGH, e.g. "
+                                               "100K:600K (one side may be empty).")] = None,
+    series: Annotated[Path | None, typer.Option("--series", help="Series YAML: several samples "
+                                                "with shared and per-sample keys.", exists=True,
+                                                dir_okay=False)] = None,
+    starts: Annotated[int, typer.Option("--starts", min=1, max=50,
+                                        help="Number of starts.")] = 5,
+    seed: Annotated[int, typer.Option("--seed", help="Seed of the start draws.")] = 0,
+    nan: Annotated[str, typer.Option("--nan", help="NaN rows in the data: raise or omit.")
+                   ] = "raise",
+    set_: Annotated[list[str] | None, typer.Option("--set", help="Override a config value "
+                                                   "KEY=VALUE before fitting (repeatable).")
+                    ] = None,
+    out: Annotated[Path | None, typer.Option("-o", "--out", help="Output folder (default: a new "
+                                             "folder beside the data).")] = None,
+    force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")
+                     ] = False,
+) -> None:
+    from ..errors import ConfigError
+    from ..fit import fit, fit_curves, fit_series, parse_window, read_fit_data
+    from ..outdir import check_out, default_out
+
+    if nan not in ("raise", "omit"):
+        raise ConfigError("--nan", nan, "raise or omit")
+    bounds_map = _bounds(bounds or [])
+    if series is not None:
+        if config is not None or data is not None or free or window or set_:
+            raise ConfigError("--series", str(series), "give either a series file, or CONFIG "
+                              "DATA with --free (and --window, --set); not both")
+        samples, shared, per, sbounds, inputs = _load_series(series, nan)
+        for key, text in bounds_map.items():
+            sbounds[key] = text
+        out = out or default_out(series, "fit")
+        check_out(out, force=force, inputs=inputs)
+        result = fit_series(samples, shared, per, bounds=sbounds, starts=starts, seed=seed)
+        meta = {"series": str(series), "shared": shared, "per_sample": per,
+                "bounds": sbounds}
+    else:
+        if config is None or data is None:
+            raise ConfigError("CONFIG DATA", allowed="give a config and a data file (or "
+                              "--series FILE)")
+        if not free:
+            raise ConfigError("--free", allowed="name at least one key to fit, e.g. --free "
+                              "material.gruneisen (see 'kappa check CONFIG' for the keys)")
+        from ..config import load_config
+
+        cfg = load_config(config, set_ or [])
+        fdata = read_fit_data(data, window=parse_window(window), nan=nan)
+        inputs = [config, data]
+        out = out or default_out(data, "fit")
+        check_out(out, force=force, inputs=inputs)
+        result = fit(cfg, fdata, free, bounds=bounds_map, starts=starts, seed=seed)
+        meta = {"config": str(config), "data": str(data), "overrides": list(set_ or []),
+                "free": list(free), "bounds": bounds_map, "window": window}
+    _write(result, fit_curves(result), out, force, inputs, meta, series is not None)
+    _report(result, out, series is not None)
+
+
+def _load_series(path: Path, nan: str):
+    import yaml
+
+    from ..errors import ConfigError
+    from ..fit import series_from_dict
+
+    try:
+        data = yaml.safe_load(path.read_text(encoding="utf-8"))
+    except yaml.YAMLError as exc:
+        mark = getattr(exc, "problem_mark", None)
+        where = f" at line {mark.line + 1}" if mark else ""
+        raise ConfigError(str(path), allowed=f"not valid YAML{where}") from None
+    loaded = series_from_dict(data, path.parent, nan=nan)
+    return (list(loaded.samples), list(loaded.shared), list(loaded.per_sample),
+            dict(loaded.bounds), [path, *loaded.files])
+
+
+def _param_rows(result, with_sample: bool):
+    rows = []
+    for p in result.parameters:
+        row = {"parameter": p.key}
+        if with_sample:
+            row["sample"] = p.sample or "shared"
+        row.update({
+            "value": p.shown(p.value), "stderr": _shown_err(p), "low68": p.shown(p.low68),
+            "high68": p.shown(p.high68), "start": p.shown(p.start),
+            "unit": "" if p.display == "1" else p.display, "space": p.space,
+            "at_bound": p.at_bound,
+        })
+        rows.append(row)
+    return rows
+
+
+def _shown_err(p) -> float:
+    if p.display == p.unit:
+        return p.stderr
+    return p.shown(p.stderr) - p.shown(0.0)
+
+
+def _residual_columns(s, weighted: bool):
+    cols = [("T [K]", s.data.temperature), ("kappa_L [W/(m K)]", s.data.kappa_L)]
+    if s.data.sigma is not None:
+        cols.append(("kappa_L_err [W/(m K)]", s.data.sigma))
+    cols += [("kappa_L_fit [W/(m K)]", s.kappa_L_fit),
+             ("residual [W/(m K)]", -s.residual),
+             ("relative_residual [1]", s.data.kappa_L / s.kappa_L_fit - 1.0)]
+    if weighted:
+        cols.append(("normalized_residual [1]", -s.normalized))
+    return cols
+
+
+def _stats(result) -> dict:
+    return {
+        "n_points": result.n_points, "n_free": result.n_free, "dof": result.dof,
+        "weighting": result.weighting,
+        "chi2" if result.weighted else "rss_log": result.chi2,
+        "chi2_red": result.chi2_red,
+        "rms_relative_residual" if not result.weighted else "rms_normalized_residual":
+            result.scatter,
+        "aic": result.aic, "bic": result.bic,
+        "aic_bic_formulas": ("AIC = chi2 + 2k, BIC = chi2 + k ln n" if result.weighted else
+                             "AIC = n ln(RSS/n) + 2k, BIC = n ln(RSS/n) + k ln n"),
+        "starts": result.starts, "starts_at_best_minimum": result.converged,
+        "model_evaluations": result.nfev,
+        "delta_bic_when_held_at_start": result.delta_bic,
+    }
+
+
+def _header(result, extra: str, sample: str | None) -> str:
+    from ..records import version
+
+    fitted = ", ".join(f"{p.key} = {p.shown(p.value):.6g}"
+                       f"{'' if p.display == '1' else ' ' + p.display} ± "
+                       f"{_shown_err(p):.2g}" for p in result.parameters
+                       if p.sample in (None, sample))
+    stat = (f"chi2_red = {result.chi2_red:.4g}" if result.weighted
+            else f"rms relative residual = {100 * result.scatter:.3g} %")
+    return (f"Fitted by kappa fit {version()} ({extra}).\n"
+            f"Fitted: {fitted}.\n"
+            f"Joint fit: n = {result.n_points} points, k = {result.n_free} free; {stat}; "
+            f"AIC = {result.aic:.5g}; BIC = {result.bic:.5g}.\n"
+            "The fit's covariance is in fit.json beside this file ('kappa predict --band' "
+            "reads it).\nComments of the original config are not carried over.")
+
+
+def _write(result, curves, out, force, inputs, meta, is_series: bool) -> None:
+    from ..fit import fit_record, fitted_yaml_data
+    from ..fit_plots import plot_fit
+    from ..outdir import output_folder
+    from ..plots import save
+    from ..records import dump_yaml, run_record, write_json
+    from ..tables import write_table
+
+    rows = _param_rows(result, is_series)
+    labels = [p.label for p in result.parameters]
+    fig = plot_fit(result, curves)
+    dropped = [line for s in result.samples for line in s.data.dropped]
+    outputs = ["fitted.yaml", "fit.json", "parameters.csv", "correlation.csv", "residuals.csv",
+               "fit.png", "fit.svg", "run.json"]
+    if is_series:
+        outputs = ["parameters.csv", "correlation.csv", "fit.png", "fit.svg", "run.json",
+                   "samples/NAME/fitted.yaml", "samples/NAME/fit.json",
+                   "samples/NAME/residuals.csv"]
+    record = run_record(
+        "fit", **meta,
+        weighting=result.weighting,
+        uncertainty_columns={s.name: s.data.sigma_source for s in result.samples},
+        windows={s.name: s.data.window for s in result.samples},
+        dropped=dropped,
+        statistics=_stats(result),
+        parameters=rows,
+        correlation={"parameters": labels, "matrix": result.correlation},
+        warnings=list(result.warnings),
+        outputs=outputs,
+        citations=result.citations,
+        caution=common.CAUTION,
+    )
+    with output_folder(out, force=force, inputs=inputs) as tmp:
+        cols = [(name, [r[name] for r in rows]) for name in rows[0]]
+        write_table(tmp / "parameters.csv", cols)
+        write_table(tmp / "correlation.csv",
+                    [("parameter", labels)] + [(lab, result.correlation[:, j])
+                                               for j, lab in enumerate(labels)])
+        save(fig, tmp / "fit")
+        write_json(tmp / "run.json", record)
+        for s in result.samples:
+            folder = tmp / "samples" / s.name if is_series else tmp
+            folder.mkdir(parents=True, exist_ok=True)
+            extra = f"config {s.start_config.source}, data {s.data.source}"
+            (folder / "fitted.yaml").write_text(
+                dump_yaml(fitted_yaml_data(s, result), _header(result, extra, s.name)), encoding="utf-8")
+            write_json(folder / "fit.json", fit_record(result, s.name if is_series else None))
+            write_table(folder / "residuals.csv", _residual_columns(s, result.weighted))
+
+
+def _report(result, out, is_series: bool) -> None:
+    for s in result.samples:
+        for line in s.data.dropped:
+            common.echo_err(f"note: {line}")
+    headers = ["parameter", "value", "stderr", "68 % interval", "unit", "bound"]
+    rows = []
+    for p in result.parameters:
+        rows.append([p.label, f"{p.shown(p.value):.5g}", f"{_shown_err(p):.2g}",
+                     f"{p.shown(p.low68):.4g} .. {p.shown(p.high68):.4g}",
+                     "" if p.display == "1" else p.display, p.at_bound or "-"])
+    common.print_table(headers, rows, max_rows=100)
+    if result.weighted:
+        typer.echo(f"weighted by the measurement uncertainties: chi2_red = "
+                   f"{result.chi2_red:.4g} (n = {result.n_points}, k = {result.n_free})")
+    else:
+        typer.echo(f"no uncertainties given: errors scaled by the residual scatter "
+                   f"(rms relative residual {100 * result.scatter:.3g} %, n = {result.n_points}, "
+                   f"k = {result.n_free})")
+    typer.echo(f"AIC = {result.aic:.5g}, BIC = {result.bic:.5g}; {result.converged} of "
+               f"{result.starts} starts reached the best minimum")
+    if is_series:
+        typer.echo(f"wrote {out}/ (parameters.csv, correlation.csv, fit.png, fit.svg, run.json; "
+                   "samples/NAME/ with fitted.yaml, fit.json, residuals.csv)")
+    else:
+        typer.echo(f"wrote {out}/ (fitted.yaml, fit.json, parameters.csv, correlation.csv, "
+                   "residuals.csv, fit.png, fit.svg, run.json)")
+
+
+def register(app: typer.Typer) -> None:
+    app.command("fit", help=HELP)(common.handles_errors(fit_command))

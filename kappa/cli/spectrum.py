@@ -1,0 +1,127 @@
+"""``kappa spectrum``: spectral and cumulative κ_L, mean-free-path accumulation, rates."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated
+
+import typer
+
+from . import common
+
+HELP = f"""Split κ_L over phonon frequency and mean free path at given temperatures.
+
+Writes OUT/spectrum.csv (per temperature, branch and frequency ν = ω/2π: spectral κ
+[W/(m K THz)], κ carried below ν, mean free path, and the rate of every active scattering
+mechanism), OUT/cumulative_mfp.csv (κ_L carried by phonons with mean free path up to Λ, all
+branches merged; its last value is κ_L), figures spectral.png, cumulative.png, rates.png (and
+.svg), and OUT/run.json; prints the mean free paths below which 50 % and 80 % of the heat is
+carried (Λ50, Λ80).
+
+With normal processes each phonon gets Callaway's effective relaxation time
+τ_eff = τ_c(1 + β/τ_N), β = I₂/I₃, so that the parts add up to κ_L; mean free path Λ = v·τ_eff.
+
+Examples:
+
+  kappa spectrum my.yaml --at 300K -o spec300
+
+  kappa spectrum my.yaml --at 300K,600K --set scattering.boundary.grain_size=100nm -o spec
+
+{common.CAUTION}
+"""
+
+
+def spectrum_command(
+    config: Annotated[Path, typer.Argument(help="YAML config (see 'kappa new').",
+                                           exists=True, dir_okay=False, readable=True)],
+    at: Annotated[list[str] | None, typer.Option(
+        "--at", help="Temperature(s), e.g. 300K or 300K,600K (repeatable).")] = None,
+    set_: Annotated[list[str] | None, typer.Option(
+        "--set", help="Override a config value: KEY=VALUE (repeatable).")] = None,
+    out: Annotated[Path | None, typer.Option("-o", "--out", help="Output folder (default: a new "
+                                             "folder beside the config).")] = None,
+    force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")] = False,
+) -> None:
+    from ..config import load_config
+    from ..errors import ConfigError
+    from ..outdir import check_out, default_out, output_folder
+    from ..predict import model_summary
+    from ..records import run_record, write_json
+    from ..spectrum import mfp_table, spectrum, spectrum_table
+    from ..sweep import parse_temperatures
+    from ..tables import write_table
+
+    cfg = load_config(config, set_ or [])
+    if not at:
+        raise ConfigError("--at", allowed="missing; give the temperature(s), e.g. --at 300K")
+    T = parse_temperatures(at)
+    if T.size > 20:
+        raise ConfigError("--at", f"{T.size} temperatures", "at most 20 temperatures")
+    theta = max(b.debye_temperature for b in cfg.material.branches)
+    if T.max() > 3.0 * theta:
+        from ..errors import warn
+
+        warn(f"temperatures up to {T.max():.4g} K exceed 3θ ({3 * theta:.4g} K); the "
+             "Debye/Callaway model is not meant for that range")
+    out = out or default_out(config, "spectrum")
+    check_out(out, force=force, inputs=[config])
+    sp = spectrum(cfg, T)
+
+    from ..plots import save
+    from ..sweep_plots import plot_cumulative, plot_rates, plot_spectral
+
+    figures = {"spectral": plot_spectral(sp), "cumulative": plot_cumulative(sp),
+               "rates": plot_rates(sp)}
+    outputs = ["spectrum.csv", "cumulative_mfp.csv",
+               *[f"{n}.{ext}" for n in figures for ext in ("png", "svg")], "run.json"]
+    record = run_record(
+        "spectrum",
+        config=str(config),
+        overrides=list(set_ or []),
+        temperatures_K=T,
+        kappa_L=sp.kappa_L,
+        branch_kappa_L=dict(zip(sp.branches, sp.branch_kappa.T, strict=True)),
+        mfp50_nm=sp.mfp50 * 1e9,
+        mfp80_nm=sp.mfp80 * 1e9,
+        callaway_beta_s=dict(zip(sp.branches, sp.beta.T, strict=True)),
+        relaxation_time=("Callaway effective time tau_eff = tau_c (1 + beta/tau_N), "
+                         "beta = I2/I3; equal to tau_c without normal processes"),
+        frequency="nu = omega/(2 pi)",
+        resolved_inputs=cfg.data,
+        derived=cfg.derived,
+        model_si=model_summary(cfg),
+        outputs=outputs,
+        citations=sp.citations,
+        caution=common.CAUTION,
+    )
+    with output_folder(out, force=force, inputs=[config]) as tmp:
+        write_table(tmp / "spectrum.csv", spectrum_table(sp))
+        write_table(tmp / "cumulative_mfp.csv", mfp_table(sp))
+        for name, fig in figures.items():
+            save(fig, tmp / name)
+        write_json(tmp / "run.json", record)
+
+    for key, text in cfg.derived.items():
+        common.echo_err(f"derived: {key} = {text}")
+    rows = [[T[t], sp.kappa_L[t], *sp.branch_kappa[t], sp.mfp50[t] * 1e9, sp.mfp80[t] * 1e9]
+            for t in range(T.size)]
+    headers = ["T [K]", "kappa_L [W/(m K)]"]
+    if len(sp.branches) > 1:
+        headers += [f"{b} [W/(m K)]" for b in sp.branches]
+    else:
+        rows = [r[:2] + r[3:] for r in rows]
+    common.print_table([*headers, "mfp50 [nm]", "mfp80 [nm]"], rows)
+    for t in range(T.size):
+        typer.echo(f"half the heat at {T[t]:.4g} K is carried by phonons with mean free path "
+                   f"above {_length(sp.mfp50[t])}; 80 % by phonons with mean free path below "
+                   f"{_length(sp.mfp80[t])}")
+    typer.echo(f"wrote {out}/" + ", ".join(outputs))
+
+
+def _length(metres: float) -> str:
+    nm = metres * 1e9
+    return f"{nm:.0f} nm" if 100 <= nm < 1e7 else f"{nm:.3g} nm"
+
+
+def register(app: typer.Typer) -> None:
+    app.command("spectrum", help=HELP)(common.handles_errors(spectrum_command))

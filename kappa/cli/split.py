@@ -1,0 +1,381 @@
+"""``kappa split``: measured kappa, sigma, S -> lattice and electronic parts, zT."""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+from typing import Annotated
+
+import numpy as np
+import typer
+
+from kappa.cli import common
+from kappa.electronic import LORENZ_MODELS
+from kappa.errors import DataError
+from kappa.measurements import NAN_POLICIES, Measurements, read_measurements
+from kappa.outdir import check_out, default_out, output_folder
+from kappa.records import run_record, write_json
+from kappa.split import (
+    DEFAULT_UNCERTAINTY,
+    INTERVAL,
+    UNCERTAINTY_KEYS,
+    SplitResult,
+    split_measurements,
+)
+from kappa.tables import write_table
+from kappa.units import parse_quantity
+
+HELP = f"""Split measured thermal conductivity into lattice and electronic parts.
+
+kappa_e = L sigma T (Wiedemann-Franz), kappa_L = kappa - kappa_e (bipolar part included),
+zT = S^2 sigma T / kappa, with 68 % Monte Carlo bands from relative measurement uncertainties,
+a bipolar check (A/T + B fit and extrapolation) and the Goldsmid-Sharp gap estimate.
+
+DATA files are CSV with 'name [unit]' headers: T, kappa (or the flash trio D, rho, cp),
+sigma or resistivity, S. Several files (e.g. flash and electrical data) are merged onto the
+temperatures of the thermal data by linear interpolation, never extrapolation.
+
+Writes OUT/split.csv, OUT/split.png, OUT/split.svg and OUT/run.json.
+
+\b
+Examples:
+  kappa split sample.csv -o sample-split
+  kappa split flash.csv electrical.csv --composition Mg2Si0.4Sn0.6 -o out
+  kappa split data.csv --lorenz kim --uncertainty kappa=0.08,sigma=0.05,S=0.05
+  kappa split data.csv --lorenz spb --scattering-exponent 2 --fit-window 300K:450K
+  kappa split data.csv --lorenz 2.0e-8 --nan omit --draws 5000 --seed 7
+
+{common.CAUTION}
+"""
+
+
+def register(app: typer.Typer) -> None:
+    app.command("split", help=HELP)(split_command)
+
+
+# --- option parsing (all before anything is written) ------------------------------------------
+
+
+def parse_lorenz(text: str) -> str | float:
+    """``spb|degenerate|nondegenerate|kim`` or a number (W Ohm/K^2, a unit may be written)."""
+    t = text.strip()
+    if t in LORENZ_MODELS:
+        return t
+    allowed = (f"{', '.join(LORENZ_MODELS)} or a number in W Ohm/K^2 (e.g. 2.0e-8)")
+    try:
+        value = parse_quantity(t, "W*ohm/K^2", "--lorenz", error=DataError)
+    except DataError:
+        raise DataError("--lorenz", text, allowed) from None
+    if not 0 < value < 1e-6:
+        raise DataError("--lorenz", text, allowed + "; values near 2e-8 are usual")
+    return value
+
+
+def parse_uncertainty(text: str | None) -> dict[str, float]:
+    """``kappa=0.08,sigma=5%,S=0.05`` -> relative uncertainties."""
+    out: dict[str, float] = {}
+    if not text:
+        return out
+    allowed = (f"comma-separated key=value with keys {', '.join(UNCERTAINTY_KEYS)} and relative "
+               "values (0.08 or 8%), e.g. kappa=0.08,sigma=0.05,S=0.05")
+    for item in text.split(","):
+        if not item.strip():
+            continue
+        key, sep, value = item.partition("=")
+        key, value = key.strip(), value.strip()
+        if not sep or key not in UNCERTAINTY_KEYS:
+            raise DataError("--uncertainty", item.strip(), allowed)
+        try:
+            v = float(value[:-1]) / 100.0 if value.endswith("%") else float(value)
+        except ValueError:
+            raise DataError("--uncertainty", item.strip(), allowed) from None
+        if not (0.0 <= v <= 0.5) or math.isnan(v):
+            raise DataError("--uncertainty", item.strip(),
+                            "a relative uncertainty between 0 and 0.5 (50%)")
+        out["sigma" if key == "resistivity" else key] = v
+    return out
+
+
+def parse_fit_window(text: str | None) -> tuple[float, float] | None:
+    """``300K:450K`` (bare numbers are kelvin; degC works) -> (300.0, 450.0)."""
+    if not text:
+        return None
+    allowed = "two temperatures LOW:HIGH, e.g. 300K:450K or 300:450 (kelvin)"
+    parts = text.split(":")
+    if len(parts) != 2:
+        raise DataError("--fit-window", text, allowed)
+    try:
+        lo, hi = (parse_quantity(p.strip(), "K", "--fit-window", error=DataError) for p in parts)
+    except DataError:
+        raise DataError("--fit-window", text, allowed) from None
+    if not lo < hi:
+        raise DataError("--fit-window", text, "LOW must be below HIGH, e.g. 300K:450K")
+    return lo, hi
+
+
+def parse_cahill(number_density: str | None,
+                 velocities: list[str] | None) -> tuple[float | None, list[float] | None]:
+    if number_density is None and not velocities:
+        return None, None
+    if number_density is None or not velocities:
+        raise DataError("--number-density/--sound-velocity", "only one given",
+                        "give both for the Cahill minimum (e.g. --number-density '4.99e28 1/m^3'"
+                        " --sound-velocity '8.95 km/s' --sound-velocity '5.35 km/s')")
+    n = parse_quantity(number_density, "1/m^3", "--number-density", error=DataError)
+    if not n > 0:
+        raise DataError("--number-density", number_density, "must be > 0 (atoms per volume)")
+    if len(velocities) > 3:
+        raise DataError("--sound-velocity", ", ".join(velocities),
+                        "1 to 3 values (one for all branches; v_L, v_T; or v_L, v_T1, v_T2)")
+    vs = []
+    for v in velocities:
+        x = parse_quantity(v, "m/s", "--sound-velocity", error=DataError)
+        if not x > 0:
+            raise DataError("--sound-velocity", v, "must be > 0 m/s")
+        vs.append(x)
+    return n, vs
+
+
+# --- output -------------------------------------------------------------------------------------
+
+
+def table_columns(r: SplitResult, m: Measurements) -> list[tuple[str, object]]:
+    """The columns of ``split.csv`` (the first four are fixed; readers may rely on them)."""
+    cols: list[tuple[str, object]] = [
+        ("T [K]", r.T),
+        ("L [W Ohm/K^2]", r.lorenz),
+        ("kappa_e [W/(m K)]", r.kappa_e),
+        ("kappa_L [W/(m K)]", r.kappa_L),
+        ("kappa_L_err [W/(m K)]", r.kappa_L_err),
+        ("kappa_L_low [W/(m K)]", r.kappa_L_low),
+        ("kappa_L_high [W/(m K)]", r.kappa_L_high),
+        ("kappa_e_low [W/(m K)]", r.kappa_e_low),
+        ("kappa_e_high [W/(m K)]", r.kappa_e_high),
+        ("L_low [W Ohm/K^2]", r.lorenz_low),
+        ("L_high [W Ohm/K^2]", r.lorenz_high),
+        ("kappa_L_degenerate [W/(m K)]", r.kappa_L_degenerate),
+    ]
+    if r.kappa_L_kim is not None:
+        cols.append(("kappa_L_kim [W/(m K)]", r.kappa_L_kim))
+    if r.zT is not None:
+        cols += [("zT [1]", r.zT), ("zT_low [1]", r.zT_low), ("zT_high [1]", r.zT_high)]
+    if r.eta is not None:
+        cols.append(("eta [1]", r.eta))
+    cols += [("kappa [W/(m K)]", r.kappa), ("sigma [S/m]", r.sigma)]
+    if r.seebeck is not None:
+        cols.append(("S [uV/K]", r.seebeck * 1e6))
+    if m.heat_capacity is not None:
+        cols.append(("cp [J/(g K)]", m.heat_capacity / 1e3))
+    if r.bipolar is not None:
+        cols += [("kappa_L_fit [W/(m K)]", r.bipolar.kappa_L_fit),
+                 ("kappa_excess [W/(m K)]", r.bipolar.excess),
+                 ("kappa_excess_err [W/(m K)]", r.bipolar.excess_err),
+                 ("bipolar [1]", r.bipolar.bipolar.astype(int))]
+    if r.kappa_min is not None:
+        cols += [("kappa_min [W/(m K)]", r.kappa_min),
+                 ("below_min [1]", r.below_minimum.astype(int))]
+    cols.append(("kappa_L_nonpositive [1]", r.nonpositive.astype(int)))
+    return cols
+
+
+def summary_lines(r: SplitResult, m: Measurements) -> list[str]:
+    """Plain-text summary printed after the table and stored in run.json."""
+    lines = []
+    model = r.lorenz_model
+    if model == "spb":
+        model += f" (scattering exponent lambda = {r.scattering_exponent:g})"
+    elif model == "constant":
+        model = f"constant {float(r.lorenz[0]):.4g} W Ohm/K^2"
+    extra = "degenerate and kim" if r.kappa_L_kim is not None else "degenerate"
+    lines.append(f"Lorenz model: {model}; split.csv also has kappa_L with L {extra}")
+    if m.heat_capacity is not None:
+        lines.append(f"Heat capacity: {m.heat_capacity_source}")
+    u = r.uncertainty
+    lines.append("Uncertainty (relative, 1 sigma, one draw per quantity for all temperatures): "
+                 + ", ".join(f"{k} {100 * u[k]:g} %" for k in ("kappa", "sigma", "S", "L"))
+                 + f"; {r.draws} draws, seed {r.seed}; bands are {100 * INTERVAL:.2f} % intervals")
+    for d in m.dropped:
+        lines.append(f"Dropped: {d}")
+    for note in (*m.notes, *r.notes):
+        lines.append(f"Note: {note}")
+    b = r.bipolar
+    if b is not None:
+        how = "automatic" if b.window_auto else "--fit-window"
+        text = (f"Bipolar check: kappa_L = A/T + B fitted on {b.fit_window[0]:g}-"
+                f"{b.fit_window[1]:g} K ({how}); ")
+        if b.onset is None:
+            text += "no rise above the extrapolation beyond its uncertainty"
+        else:
+            text += (f"kappa_L rises above it from {b.onset:g} K on (bipolar onset); excess "
+                     f"{b.excess[-1]:.3g} +- {b.excess_err[-1]:.2g} W/(m K) at {r.T[-1]:g} K")
+        lines.append(text)
+        if b.seebeck_max is not None:
+            if b.gap is None:
+                lines.append(f"Goldsmid-Sharp gap: not estimated ({b.gap_note})")
+            else:
+                lines.append(f"Goldsmid-Sharp gap: 2e|S|max Tmax = {b.gap / 1.602176634e-19:.3g} "
+                             f"eV (|S|max = {b.seebeck_max * 1e6:.4g} uV/K at "
+                             f"{b.temperature_at_seebeck_max:g} K); {b.gap_note}")
+    if r.nonpositive.any():
+        lines.append("Flag: kappa_L <= 0 at " + ", ".join(f"{t:g} K" for t in r.T[r.nonpositive]))
+    if r.below_minimum is not None and r.below_minimum.any():
+        lines.append("Flag: kappa_L below the Cahill minimum at "
+                     + ", ".join(f"{t:g} K" for t in r.T[r.below_minimum]))
+    return lines
+
+
+def _flags(r: SplitResult, i: int) -> str:
+    f = []
+    if r.bipolar is not None and r.bipolar.bipolar[i]:
+        f.append("bipolar")
+    if r.nonpositive[i]:
+        f.append("<=0")
+    if r.below_minimum is not None and r.below_minimum[i]:
+        f.append("<min")
+    return ",".join(f)
+
+
+def split_command(
+    data: Annotated[list[Path], typer.Argument(
+        help="Measurement CSV file(s); columns T, kappa or D+rho+cp, sigma or resistivity, S.",
+        exists=True, dir_okay=False, readable=True, show_default=False, metavar="DATA.csv...")],
+    out: Annotated[Path | None, typer.Option(
+        "-o", "--out", help="Output folder (default: beside the first file, with a time stamp).",
+        show_default=False)] = None,
+    force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")
+                     ] = False,
+    lorenz: Annotated[str, typer.Option(
+        "--lorenz", help="Lorenz model: spb, degenerate, nondegenerate, kim, or a number in "
+        "W Ohm/K^2 (e.g. 2.0e-8).")] = "spb",
+    scattering_exponent: Annotated[float, typer.Option(
+        "--scattering-exponent", help="lambda in tau ~ E^(lambda-1/2) for --lorenz spb: "
+        "0 acoustic phonons, 1 polar optical, 2 ionized impurities.")] = 0.0,
+    composition: Annotated[str | None, typer.Option(
+        "--composition", help="Chemical formula (e.g. Bi2Te2.7Se0.3); cp = Dulong-Petit "
+        "3R/M for flash data.", show_default=False)] = None,
+    uncertainty: Annotated[str | None, typer.Option(
+        "--uncertainty", help="Relative 1-sigma uncertainties, e.g. kappa=0.08,sigma=0.05,S=0.05"
+        " (keys kappa, sigma|resistivity, S, L). Defaults: kappa=0.11,sigma=0.08,S=0.06,L=0.",
+        show_default=False)] = None,
+    fit_window: Annotated[str | None, typer.Option(
+        "--fit-window", help="Window of the A/T + B fit of the bipolar check, e.g. 300K:450K "
+        "(default: automatic).", show_default=False)] = None,
+    nan: Annotated[str, typer.Option(
+        "--nan", help="NaN cells: raise (error) or omit (drop the row and list it).")] = "raise",
+    draws: Annotated[int, typer.Option("--draws", help="Monte Carlo draws.", min=100)] = 2000,
+    seed: Annotated[int, typer.Option("--seed", help="Random seed of the Monte Carlo.")] = 0,
+    number_density: Annotated[str | None, typer.Option(
+        "--number-density", help="Atoms per volume for the Cahill minimum, e.g. '4.99e28 1/m^3'"
+        " (needs --sound-velocity).", show_default=False)] = None,
+    sound_velocity: Annotated[list[str] | None, typer.Option(
+        "--sound-velocity", help="Acoustic velocity for the Cahill minimum, repeat 1-3 times "
+        "(v_L, v_T, v_T), e.g. '8.95 km/s'.", show_default=False)] = None,
+    config: Annotated[Path | None, typer.Option(
+        "--config", help="A kappa config of the material: its volume per atom and branch "
+        "velocities give the Cahill minimum (--number-density/--sound-velocity take priority).",
+        exists=True, dir_okay=False, show_default=False)] = None,
+) -> None:
+    if config is not None:
+        number_density, sound_velocity = _cahill_from_config(config, number_density,
+                                                             sound_velocity)
+    _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, fit_window,
+         nan, draws, seed, number_density, sound_velocity)
+
+
+@common.handles_errors
+def _cahill_from_config(config: Path, number_density: str | None,
+                        sound_velocity: list[str] | None) -> tuple[str, list[str]]:
+    """Number density and velocities (as option strings) from a config, unless given."""
+    from kappa.config import load_config
+
+    m = load_config(config).material
+    if number_density is None:
+        number_density = f"{1.0 / m.atomic_volume!r} 1/m^3"
+    if not sound_velocity:
+        sound_velocity = []
+        for b in m.branches:
+            sound_velocity += [f"{b.sound_velocity!r} m/s"] * (1 if not m.per_branch
+                                                                else max(1, round(b.count)))
+    return number_density, sound_velocity
+
+
+@common.handles_errors
+def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, fit_window,
+         nan, draws, seed, number_density, sound_velocity) -> None:
+    # 1. validate every option and the data before anything is written
+    model = parse_lorenz(lorenz)
+    unc = parse_uncertainty(uncertainty)
+    window = parse_fit_window(fit_window)
+    n_density, velocities = parse_cahill(number_density, sound_velocity)
+    if nan not in NAN_POLICIES:
+        raise DataError("--nan", nan, "raise or omit")
+    if not (scattering_exponent > -1 and math.isfinite(scattering_exponent)):
+        raise DataError("--scattering-exponent", scattering_exponent,
+                        "must be > -1 (0 acoustic phonons, 1 polar optical, 2 ionized impurity)")
+    out = Path(out) if out is not None else default_out(data[0], "split")
+    check_out(out, force=force, inputs=data)
+    m = read_measurements(data, nan=nan, composition=composition)
+    if m.seebeck is None and model in ("spb", "kim"):
+        raise DataError(", ".join(p.name for p in data), "no column 'S [...]'",
+                        f"a Seebeck column (e.g. 'S [uV/K]') is needed for --lorenz {model}; "
+                        "or choose --lorenz degenerate, nondegenerate or a number")
+    r = split_measurements(m, lorenz=model, scattering_exponent=scattering_exponent,
+                           uncertainty=unc, draws=draws, seed=seed, fit_window=window,
+                           number_density=n_density, sound_velocities=velocities)
+    lines = summary_lines(r, m)
+    from kappa.split_plots import plot_split
+
+    fig = plot_split(r, title=", ".join(p.name for p in data))
+    record = run_record(
+        "split",
+        inputs={"files": [str(p) for p in data], "lorenz": model,
+                "scattering_exponent": scattering_exponent, "composition": composition,
+                "uncertainty": r.uncertainty, "uncertainty_defaults": DEFAULT_UNCERTAINTY,
+                "fit_window_K": list(window) if window else "automatic", "nan": nan,
+                "draws": draws, "seed": seed, "number_density_per_m3": n_density,
+                "sound_velocities_m_per_s": velocities},
+        measurements={"sources": m.sources, "heat_capacity": m.heat_capacity_source,
+                      "dropped_rows": list(m.dropped), "notes": list(m.notes),
+                      "rows": int(r.T.size)},
+        derived=_derived(r),
+        summary=lines,
+        citations=list(r.citations),
+        caution=common.CAUTION,
+    )
+    # 2. write everything into a temporary folder, renamed to OUT only when complete
+    with output_folder(out, force=force, inputs=data) as tmp:
+        write_table(tmp / "split.csv", table_columns(r, m))
+        fig.savefig(tmp / "split.png", dpi=150)
+        fig.set_layout_engine("none")  # keep the layout just computed; saves a second pass
+        fig.savefig(tmp / "split.svg")
+        write_json(tmp / "run.json", record)
+    # 3. terminal report
+    headers = ["T [K]", "L [1e-8 W Ohm/K^2]", "kappa", "kappa_e", "kappa_L",
+               "kappa_L 68%", "zT", "flags"]
+    rows = []
+    for i, t in enumerate(r.T):
+        rows.append([t, r.lorenz[i] * 1e8, r.kappa[i], r.kappa_e[i], r.kappa_L[i],
+                     f"{r.kappa_L_low[i]:.3g}..{r.kappa_L_high[i]:.3g}",
+                     np.nan if r.zT is None else r.zT[i], _flags(r, i)])
+    typer.echo("conductivities in W/(m K)")
+    common.print_table(headers, rows)
+    for line in lines:
+        typer.echo(line)
+    typer.echo(f"Wrote {out}/ (split.csv, split.png, split.svg, run.json)")
+    typer.echo(common.CAUTION)
+
+
+def _derived(r: SplitResult) -> dict:
+    d: dict = {"lorenz_model": r.lorenz_model}
+    b = r.bipolar
+    if b is not None:
+        d["bipolar"] = {
+            "fit_window_K": list(b.fit_window), "window_auto": b.window_auto,
+            "A_W_per_m": b.coefficients[0], "B_W_per_mK": b.coefficients[1],
+            "onset_K": b.onset,
+            "seebeck_max_V_per_K": b.seebeck_max,
+            "temperature_at_seebeck_max_K": b.temperature_at_seebeck_max,
+            "goldsmid_sharp_gap_eV": None if b.gap is None else b.gap / 1.602176634e-19,
+            "gap_note": b.gap_note,
+        }
+    return d

@@ -1,0 +1,208 @@
+"""``kappa sweep``: κ_L on a grid of parameter values × temperatures."""
+
+from __future__ import annotations
+
+import sys
+import time
+from pathlib import Path
+from typing import Annotated
+
+import numpy as np
+import typer
+
+from . import common
+
+HELP = f"""Sweep one or more config keys over a grid and compute κ_L at every point.
+
+Each --vary is KEY=START:STOP:N (N evenly spaced values, both ends included), KEY=START:STOP:N:log
+(geometric spacing) or KEY=V1,V2,... (a list). Values take units (10nm, 2km/s); a bare number is
+read in the key's default unit, as in the config. Any numeric key of the config works
+('kappa check CONFIG' lists them). Temperatures come from --at, else from the config.
+
+Writes OUT/sweep.csv (one row per grid point and temperature: one column per key in its display
+unit, T [K], kappa_L [W/(m K)], kappa_L_ratio [1] = κ_L / κ_L of the config as written at the
+same T), OUT/sweep.png and .svg (one key: κ_L against the key, a line per temperature; two or
+more keys: contour maps over the first two keys, a panel per temperature, other keys at their
+first value), and OUT/run.json; prints a summary.
+
+Examples:
+
+  kappa sweep my.yaml --vary scattering.boundary.grain_size=10nm:10um:41:log --at 300K,600K -o grains
+
+  kappa sweep my.yaml --vary scattering.boundary.grain_size=10nm:10um:61:log
+      --vary scattering.point_defect.mass_variance=0:0.05:51 --at 300K -o map
+
+  kappa sweep my.yaml --vary material.gruneisen=1.0,1.5,2.0 -o gamma
+
+Sweeps above 10^8 points need --yes.
+
+{common.CAUTION}
+"""
+
+
+class _Bar:
+    """A simple progress bar on stderr, drawn only on a terminal and only after one second."""
+
+    def __init__(self) -> None:
+        self.start = time.perf_counter()
+        self.shown = False
+        self.tty = sys.stderr.isatty()
+
+    def __call__(self, done: int, total: int) -> None:
+        if not self.tty or total <= 0:
+            return
+        elapsed = time.perf_counter() - self.start
+        if elapsed < 1.0 and not self.shown:
+            return
+        self.shown = True
+        frac = done / total
+        width = 30
+        fill = int(round(frac * width))
+        sys.stderr.write(f"\rsweep [{'#' * fill}{'.' * (width - fill)}] {100 * frac:5.1f} % "
+                         f"{elapsed:6.1f} s")
+        if done >= total:
+            sys.stderr.write("\n")
+        sys.stderr.flush()
+
+
+def write_csv(path: Path, columns: list[tuple[str, np.ndarray]], block: int = 200_000) -> None:
+    """Write numeric columns fast (``%.8g``, NaN as a blank cell), in blocks of rows."""
+    headers = [h for h, _ in columns]
+    n = len(columns[0][1])
+    fmt = ",".join(["%.8g"] * len(columns))
+    with open(path, "w", encoding="utf-8", newline="\n") as fh:
+        fh.write(",".join(headers) + "\n")
+        for a in range(0, n, block):
+            b = min(n, a + block)
+            arr = np.column_stack([np.asarray(c[a:b], dtype=float) for _, c in columns])
+            text = "\n".join(fmt % row for row in map(tuple, arr.tolist()))
+            if np.isnan(arr).any():
+                text = "\n".join(",".join("" if c == "nan" else c for c in line.split(","))
+                                 for line in text.split("\n"))
+            fh.write(text + "\n")
+
+
+def sweep_command(
+    config: Annotated[Path, typer.Argument(help="YAML config (see 'kappa new').",
+                                           exists=True, dir_okay=False, readable=True)],
+    vary: Annotated[list[str] | None, typer.Option(
+        "--vary", help="KEY=START:STOP:N[:log] or KEY=V1,V2,... (repeatable, one per key).")] = None,
+    at: Annotated[list[str] | None, typer.Option(
+        "--at", help="Temperatures, e.g. 300K,600K (repeatable); default: the config's "
+        "temperature section.")] = None,
+    set_: Annotated[list[str] | None, typer.Option(
+        "--set", help="Override a config value first: KEY=VALUE (repeatable).")] = None,
+    out: Annotated[Path | None, typer.Option("-o", "--out", help="Output folder (default: a new "
+                                             "folder beside the config).")] = None,
+    force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")] = False,
+    yes: Annotated[bool, typer.Option("--yes", help="Allow sweeps above 10^8 points.")] = False,
+) -> None:
+    from ..config import load_config
+    from ..errors import ConfigError
+    from ..outdir import check_out, default_out, output_folder
+    from ..predict import model_summary
+    from ..records import run_record, write_json
+    from ..sweep import (
+        MAX_POINTS,
+        check_axes,
+        column_names,
+        grid_points,
+        parse_temperatures,
+        parse_vary,
+        sweep,
+    )
+
+    cfg = load_config(config, set_ or [])
+    axes = check_axes([parse_vary(item) for item in (vary or [])])
+    if at:
+        T = parse_temperatures(at)
+    elif cfg.temperature is not None:
+        T = cfg.temperature
+    else:
+        raise ConfigError("--at", allowed="missing: give temperatures with --at (e.g. --at "
+                          "300K,600K) or a temperature section in the config")
+    points = grid_points(axes, T.size)
+    if points > MAX_POINTS and not yes:
+        raise ConfigError("--vary", f"{points:.3g} points",
+                          f"more than {MAX_POINTS:.0e} points; add --yes to run it anyway "
+                          "(the table needs about 50 bytes per point)")
+    out = out or default_out(config, "sweep")
+    check_out(out, force=force, inputs=[config])
+
+    t0 = time.perf_counter()
+    result = sweep(cfg, axes, T, progress=_Bar())
+    elapsed = time.perf_counter() - t0
+
+    from ..plots import save
+    from ..sweep_plots import plot_sweep
+
+    fig = plot_sweep(result)
+    names = column_names(axes)
+    record = run_record(
+        "sweep",
+        config=str(config),
+        overrides=list(set_ or []),
+        vary=list(vary or []),
+        axes=[{"key": a.key, "column": n, "unit": a.unit, "spacing": "log" if a.log else
+               ("list" if ":" not in a.spec else "linear"), "values": a.shown}
+              for a, n in zip(axes, names, strict=True)],
+        temperatures_K=T,
+        points=points,
+        config_level_keys=list(result.config_level),
+        reference_kappa_L=result.reference,
+        seconds=round(elapsed, 3),
+        resolved_inputs=cfg.data,
+        derived=cfg.derived,
+        model_si=model_summary(cfg),
+        outputs=["sweep.csv", "sweep.png", "sweep.svg", "run.json"],
+        citations=result.citations,
+        caution=common.CAUTION,
+    )
+    with output_folder(out, force=force, inputs=[config]) as tmp:
+        write_csv(tmp / "sweep.csv", result.long_form())
+        save(fig, tmp / "sweep")
+        write_json(tmp / "run.json", record)
+
+    for key, text in cfg.derived.items():
+        common.echo_err(f"derived: {key} = {text}")
+    _summary(result, names, elapsed)
+    typer.echo(f"wrote {out}/sweep.csv, sweep.png, sweep.svg, run.json")
+
+
+def _summary(result, names: list[str], elapsed: float) -> None:
+    from ..sweep_plots import pick
+
+    k, T, axes = result.kappa_L, result.temperature, result.axes
+    n_sets = k.size // T.size
+    rate = f" ({k.size / elapsed:.3g} points/s)" if elapsed > 0 else ""
+    typer.echo(f"{n_sets} parameter sets x {T.size} temperatures = {k.size} points in "
+               f"{elapsed:.2f} s{rate}")
+    if result.config_level:
+        typer.echo("evaluated one config per value of: " + ", ".join(result.config_level))
+    rows = []
+    for t in pick(T.size, 12):
+        kt = k[..., t]
+        lo, hi = np.unravel_index(np.argmin(kt), kt.shape), np.unravel_index(np.argmax(kt), kt.shape)
+        where = [", ".join(f"{n.split(' [')[0]}={a.shown[i]:.4g}" for n, a, i in
+                           zip(names, axes, ix, strict=True)) for ix in (lo, hi)]
+        rows.append([T[t], kt[lo], where[0], kt[hi], where[1], result.reference[t]])
+    common.print_table(["T [K]", "min kappa_L", "at", "max kappa_L", "at", "config kappa_L"],
+                       rows)
+    if len(axes) == 1:
+        ts = pick(T.size, 5)
+        headers = [names[0]] + [f"kappa_L({T[t]:.4g} K)" for t in ts]
+        table = [[axes[0].shown[i]] + [k[i, t] for t in ts] for i in range(axes[0].values.size)]
+        typer.echo("")
+        common.print_table(headers, table)
+    elif len(axes) == 2:
+        rows_i, cols_i = pick(axes[0].values.size, 10), pick(axes[1].values.size, 6)
+        for t in pick(T.size, 3):
+            typer.echo(f"\nkappa_L [W/(m K)] at T = {T[t]:.4g} K (rows: {names[0]}, "
+                       f"columns: {names[1]}; thinned)")
+            headers = [names[0].split(" [")[0]] + [f"{axes[1].shown[j]:.4g}" for j in cols_i]
+            table = [[axes[0].shown[i]] + [k[i, j, t] for j in cols_i] for i in rows_i]
+            common.print_table(headers, table)
+
+
+def register(app: typer.Typer) -> None:
+    app.command("sweep", help=HELP)(common.handles_errors(sweep_command))

@@ -1,0 +1,109 @@
+"""Figures of a fit: data, fitted curve, each mechanism switched off, residuals.
+
+Object-API matplotlib through :func:`kappa.plots.new_figure`; no pyplot state.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import Any
+
+import numpy as np
+
+from .fit import FitResult
+from .plots import new_figure
+from .predict import Prediction
+
+__all__ = ["plot_fit", "add_band"]
+
+_TITLES = {"umklapp": "Umklapp", "boundary": "boundary", "point_defect": "point defects"}
+
+
+def _log_axes(T: np.ndarray) -> bool:
+    return T.min() > 0 and T.max() / T.min() >= 5.0
+
+
+_NICE = np.array([1, 2, 3, 5])
+
+
+def _temperature_ticks(ax: Any, lo: float, hi: float) -> None:
+    """Plain-number ticks (20, 50, 100, 200, ...) on a log temperature axis."""
+    decades = 10.0 ** np.arange(np.floor(np.log10(lo)), np.ceil(np.log10(hi)) + 1)
+    ticks = np.array([d * n for d in decades for n in _NICE])
+    ticks = ticks[(ticks >= lo * 0.999) & (ticks <= hi * 1.001)]
+    if ticks.size > 8:
+        ticks = ticks[np.isin(ticks / 10.0 ** np.floor(np.log10(ticks)), (1, 2, 5))]
+    ax.set_xticks(ticks, [f"{t:g}" for t in ticks])
+    ax.tick_params(axis="x", which="minor", labelbottom=False)
+
+
+def plot_fit(result: FitResult, curves: Sequence[Prediction], title: str = "") -> Any:
+    """One column per sample: data and fit (top), residuals (bottom). Returns the Figure.
+
+    ``curves`` are the fitted models on a fine grid (:func:`kappa.fit.fit_curves`), one per
+    sample; each curve's ``without`` entries are drawn dashed (that mechanism switched off).
+    Residual panel: (κ − κ_fit)/σ for weighted fits, 100·(κ/κ_fit − 1) % otherwise.
+    """
+    n = len(result.samples)
+    ncols = min(n, 3)
+    nrows = 2 * ((n + ncols - 1) // ncols)
+    ratios = [3, 1] * (nrows // 2)
+    fig, axes = new_figure(4.8 * ncols if n > 1 else 6.4, 5.6 * nrows / 2, nrows=nrows,
+                           ncols=ncols, gridspec_kw={"height_ratios": ratios})
+    for i, (s, curve) in enumerate(zip(result.samples, curves, strict=True)):
+        row, col = 2 * (i // ncols), i % ncols
+        ax, rax = axes[row, col], axes[row + 1, col]
+        d = s.data
+        ax.plot(curve.temperature, curve.kappa_L, color="black", lw=1.8, label="fit")
+        for key, k in curve.without.items():
+            if np.all(np.isnan(k)):
+                continue
+            ax.plot(curve.temperature, k, ls="--", lw=1.0,
+                    label=f"fit without {_TITLES.get(key, key)}")
+        if d.sigma is not None:
+            ax.errorbar(d.temperature, d.kappa_L, yerr=d.sigma, fmt="o", ms=4, color="tab:red",
+                        capsize=2, label="data")
+        else:
+            ax.plot(d.temperature, d.kappa_L, "o", ms=4, color="tab:red", label="data")
+        if _log_axes(curve.temperature):
+            ax.set_xscale("log")
+            ax.set_yscale("log")
+            rax.set_xscale("log")
+            for a in (ax, rax):
+                _temperature_ticks(a, float(curve.temperature.min()),
+                                   float(curve.temperature.max()))
+        lo = float(np.nanmin(d.kappa_L))
+        hi = float(np.nanmax(d.kappa_L))
+        if ax.get_yscale() == "log":
+            ax.set_ylim(lo / 2.0, hi * 2.0)
+        ax.set_ylabel("κ_L [W/(m K)]")
+        ax.set_title(s.name if n > 1 else (title or f"Fit: {s.config.material.name or s.name}"),
+                     fontsize=10)
+        ax.grid(True, which="both", alpha=0.3)
+        ax.legend(fontsize=7)
+        if result.weighted:
+            rax.plot(d.temperature, -s.normalized, "o", ms=4, color="tab:red")
+            rax.set_ylabel("(κ − fit)/σ")
+        else:
+            rax.plot(d.temperature, 100.0 * (d.kappa_L / s.kappa_L_fit - 1.0), "o", ms=4,
+                     color="tab:red")
+            rax.set_ylabel("κ/fit − 1 [%]")
+        rax.axhline(0.0, color="black", lw=0.8)
+        rax.set_xlim(ax.get_xlim())
+        rax.set_xlabel("T [K]")
+        rax.grid(True, which="both", alpha=0.3)
+    for j in range(n, (nrows // 2) * ncols):  # unused cells of the last row
+        row, col = 2 * (j // ncols), j % ncols
+        axes[row, col].set_visible(False)
+        axes[row + 1, col].set_visible(False)
+    if title and n > 1:
+        fig.suptitle(title, fontsize=11)
+    return fig
+
+
+def add_band(ax: Any, temperature: np.ndarray, low: np.ndarray, high: np.ndarray,
+             label: str = "68 % band (fit covariance)") -> Any:
+    """Shade the band between ``low`` and ``high`` on ``ax``; returns ``ax``."""
+    ax.fill_between(temperature, low, high, color="tab:blue", alpha=0.25, lw=0, label=label)
+    ax.legend(fontsize=8)
+    return ax
