@@ -50,7 +50,6 @@ from pathlib import Path
 from typing import Any
 
 import numpy as np
-from scipy.optimize import least_squares
 
 from .conductivity import (
     branch_prefactors,
@@ -580,6 +579,8 @@ class _Problem:
 def _solve(problem: _Problem, starts: Sequence[np.ndarray], fixed: Mapping[int, float] = ()
            ) -> tuple[Any, int, int]:
     """Run least_squares from each start; return (best result, n converged to best, nfev)."""
+    from scipy.optimize import least_squares  # imported here: keeps `import kappa` fast
+
     fixed = dict(fixed)
     free_idx = [i for i in range(len(problem.params)) if i not in fixed]
     base = problem.u0.copy()

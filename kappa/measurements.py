@@ -176,7 +176,8 @@ def _convert(table: Table, name: str) -> _Col:
             raise
         hint = ""
         if name == "rho":
-            hint = "; 'rho' is the density, write electrical resistivity as 'resistivity [mOhm cm]'"
+            hint = ("; 'rho' with a density unit is the density, with a resistivity unit "
+                    "(e.g. mOhm cm) the electrical resistivity")
         raise DataError(where, col.unit,
                         f"wrong dimension for the {q.what}: use e.g. {q.examples}{hint}") from None
     blank = col.blank if col.blank is not None else np.zeros(len(values), dtype=bool)
@@ -194,7 +195,50 @@ def _read(path: str | Path) -> Table:
         raise
 
 
+#: Other column names accepted for each quantity (exact spelling; the unit decides for 'rho').
+ALIASES: dict[str, tuple[str, ...]] = {
+    "T": ("temperature", "Temperature", "temp"),
+    "kappa": ("kappa_total", "kappa_tot", "thermal_conductivity", "k_total"),
+    "D": ("diffusivity", "thermal_diffusivity", "alpha_D"),
+    "rho": ("density", "Density"),
+    "cp": ("Cp", "c_p", "C_p", "specific_heat", "heat_capacity"),
+    "sigma": ("sigma_e", "electrical_conductivity", "el_conductivity"),
+    "resistivity": ("rho_e", "electrical_resistivity", "Resistivity"),
+    "S": ("seebeck", "Seebeck", "seebeck_coefficient", "Seebeck_coefficient"),
+}
+
+
+def _canonical(table: Table) -> Table:
+    """Rename accepted alternative column names to the canonical ones.
+
+    A column named ``rho`` whose unit is a resistivity (e.g. ``rho [mOhm cm]``) is read as the
+    electrical resistivity; with a density unit it is the density.
+    """
+    from dataclasses import replace
+
+    from .units import registry
+
+    lookup = {alias: name for name, aliases in ALIASES.items() for alias in aliases}
+    renamed: dict[str, object] = {}
+    for col in table.columns.values():
+        name = lookup.get(col.name, col.name)
+        if col.name == "rho":
+            try:
+                dim = registry().parse_units(col.unit.replace("µ", "u").replace("μ", "u"))
+                if dim.dimensionality == registry().parse_units("ohm m").dimensionality:
+                    name = "resistivity"
+            except Exception:  # an unknown unit is reported when the column is converted
+                pass
+        if name in renamed:
+            raise DataError(f"{table.source}, column '{col.header}'", col.name,
+                            f"gives the same quantity as column '{renamed[name].header}'; "
+                            "keep one of them")
+        renamed[name] = replace(col, name=name)
+    return Table(source=table.source, columns=renamed)
+
+
 def _source_from_table(table: Table) -> _Source:
+    table = _canonical(table)
     if "T" not in table:
         have = ", ".join(c.header for c in table.columns.values())
         raise DataError(table.source, "no column 'T [...]'",

@@ -19,9 +19,12 @@ _TITLES = {"umklapp": "Umklapp", "boundary": "boundary", "point_defect": "point 
 
 
 def new_figure(width: float = 6.4, height: float = 4.4, nrows: int = 1, ncols: int = 1,
-               **kwargs) -> tuple[Figure, np.ndarray]:
-    """A figure with an Agg canvas and its axes (array)."""
-    fig = Figure(figsize=(width, height), layout="constrained")
+               layout: str | None = "constrained", **kwargs) -> tuple[Figure, np.ndarray]:
+    """A figure with an Agg canvas and its axes (array).
+
+    ``layout=None`` skips the automatic layout (faster; the caller sets the margins).
+    """
+    fig = Figure(figsize=(width, height), layout=layout)
     FigureCanvasAgg(fig)
     axes = fig.subplots(nrows, ncols, squeeze=False, **kwargs)
     return fig, axes
@@ -62,7 +65,8 @@ def plot_prediction(prediction: Prediction, overlays: Sequence[tuple[str, Predic
     Returns the figure.
     """
     if ax is None:
-        fig, axes = new_figure()
+        fig, axes = new_figure(layout=None)  # fixed margins: this figure is drawn on every run
+        fig.subplots_adjust(left=0.13, right=0.97, bottom=0.12, top=0.92)
         ax = axes[0, 0]
     else:
         fig = ax.figure

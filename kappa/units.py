@@ -31,10 +31,28 @@ def registry():
     return ureg
 
 
+_COMPACT = [  # compact lab spellings → explicit products (W/mK is not "watt per millikelvin")
+    (re.compile(r"/\s*m\s*[-·.]?\s*K\b"), "/(m K)"),
+    (re.compile(r"/\s*g\s*[-·.]?\s*K\b"), "/(g K)"),
+    (re.compile(r"/\s*kg\s*[-·.]?\s*K\b"), "/(kg K)"),
+    (re.compile(r"/\s*mol\s*[-·.]?\s*K\b"), "/(mol K)"),
+]
+_EXPONENT = re.compile(r"(?<=[A-Za-zΩ)])(-?\d+)\b")  # m-1, cm-3, mm2 → m^-1, cm^-3, mm^2
+
+
+def normalize_unit(text: str) -> str:
+    """Rewrite common lab spellings into ones pint parses (``W/mK``, ``m-1``, ``mm2``, ``µ``)."""
+    t = text.strip().replace("µ", "u").replace("μ", "u").replace("·", " ").replace("⋅", " ")
+    t = t.replace("²", "^2").replace("³", "^3").replace("⁻¹", "^-1")
+    for pattern, repl in _COMPACT:
+        t = pattern.sub(repl, t)
+    return _EXPONENT.sub(r"^\1", t)
+
+
 @functools.lru_cache(maxsize=512)
 def _unit(text: str):
     ureg = registry()
-    return ureg.parse_units(text.replace("µ", "u").replace("μ", "u"))
+    return ureg.parse_units(normalize_unit(text))
 
 
 def parse_unit(text: str, key: str, *, error: type[KappaError] = ConfigError):
@@ -121,14 +139,27 @@ def format_quantity(value: float, unit: str, digits: int = 12) -> str:
     return f"{value:.{digits}g} {unit}" if unit not in ("", "1") else f"{value:.{digits}g}"
 
 
+_KINDS = [
+    ("K", "temperature (e.g. K)"),
+    ("m", "length (e.g. nm, um, m)"),
+    ("m/s", "speed (e.g. m/s, km/s)"),
+    ("kg", "mass (e.g. u, kg)"),
+    ("m^3", "volume (e.g. angstrom**3, nm**3)"),
+    ("dimensionless", "a plain number"),
+    ("W/(m K)", "thermal conductivity (e.g. W/(m K))"),
+    ("S/m", "electrical conductivity (e.g. S/cm, S/m)"),
+    ("ohm m", "electrical resistivity (e.g. mOhm cm, uOhm m)"),
+    ("V/K", "Seebeck coefficient (e.g. uV/K)"),
+    ("m^2/s", "diffusivity (e.g. mm^2/s)"),
+    ("kg/m^3", "density (e.g. g/cm^3)"),
+    ("J/(kg K)", "specific heat (e.g. J/(g K))"),
+    ("W ohm/K^2", "Lorenz number (e.g. W Ohm/K^2)"),
+    ("1/m^3", "number density (e.g. 1/m^3)"),
+]
+
+
 def _describe(unit) -> str:
-    dim = str(unit.dimensionality)
-    names = {
-        "[temperature]": "temperature (e.g. K)",
-        "[length]": "length (e.g. nm, um, m)",
-        "[length] / [time]": "speed (e.g. m/s, km/s)",
-        "[mass]": "mass (e.g. u, kg)",
-        "[length] ** 3": "volume (e.g. angstrom**3, nm**3)",
-        "dimensionless": "a plain number",
-    }
-    return names.get(dim, dim)
+    for text, words in _KINDS:
+        if _unit(text).dimensionality == unit.dimensionality:
+            return words
+    return f"the dimension of {unit:~}"

@@ -148,8 +148,10 @@ BAD = [
      "give one of 'sigma' or 'resistivity', not both"),
     ("T [K],kappa [W/(m K)],D [mm^2/s],rho [g/cm^3],cp [J/(g K)],sigma [S/m]\n300,1,1,1,1,1\n"
      "400,1,1,1,1,1\n500,1,1,1,1,1\n", "give either the total 'kappa' or the flash trio"),
-    ("T [K],kappa [W/(m K)],rho [mOhm cm]\n300,1,1\n400,1,1\n500,1,1\n",
-     "'rho' is the density, write electrical resistivity as 'resistivity [mOhm cm]'"),
+    ("T [K],kappa [W/(m K)],sigma [S/m],rho [K]\n300,1,1,1\n400,1,1,1\n500,1,1,1\n",
+     "with a resistivity unit (e.g. mOhm cm) the electrical resistivity"),
+    ("T [K],kappa [W/(m K)],rho [mOhm cm],rho_e [mOhm cm]\n300,1,1,1\n400,1,1,1\n500,1,1,1\n",
+     "gives the same quantity as column"),
     ("T [K],kappa [W/(m K)],sigma [S/m]\n300,1,1\n400,1,1\n0,1,1\n",
      "temperatures must be > 0 K"),
     ("T [K],kappa [W/(m K)],sigma [S/m]\n300,1,1\n400,inf,1\n500,1,1\n", "must be finite"),
@@ -181,3 +183,16 @@ def test_sign_change_of_S_warns(tmp_path):
 def test_bad_nan_policy():
     with pytest.raises(DataError, match="--nan = drop: raise or omit"):
         measurements_from_arrays([1, 2, 3], kappa=[1, 1, 1], sigma=[1, 1, 1], nan="drop")
+
+
+def test_alternative_column_names(tmp_path):
+    # 'rho' with a resistivity unit is the electrical resistivity; common spellings are accepted
+    p = tmp_path / "alt.csv"
+    p.write_text("temperature [K],kappa_total [W/(m K)],rho [mOhm cm],Seebeck [uV/K]\n"
+                 "300,2.0,1.0,150\n400,1.8,1.2,170\n500,1.6,1.4,190\n", encoding="utf-8")
+    m = read_measurements([p])
+    assert m.T.tolist() == [300.0, 400.0, 500.0]
+    assert m.kappa.tolist() == [2.0, 1.8, 1.6]
+    # 1 mOhm cm = 1e-5 Ohm m → sigma = 1e5 S/m (unit arithmetic, no source needed)
+    assert m.sigma[0] == pytest.approx(1e5)
+    assert m.seebeck[0] == pytest.approx(150e-6)
