@@ -465,6 +465,8 @@ def _temperature(value: Any) -> np.ndarray:
             raise ConfigError(f"temperature.{extra[0]}", sec[extra[0]],
                               "give either temperature.values or start/stop/points, not both")
         vals = sec["values"]
+        if isinstance(vals, (str, int, float)) and not isinstance(vals, bool):
+            vals = [vals]  # a single temperature
         if not isinstance(vals, list) or not vals:
             raise ConfigError("temperature.values", vals, "must be a non-empty list, e.g. "
                               "[300 K, 600 K]")
@@ -480,6 +482,8 @@ def _temperature(value: Any) -> np.ndarray:
     start = _number(TEMPERATURE_KEYS["start"], sec["start"], "temperature.start")
     stop = _number(TEMPERATURE_KEYS["stop"], sec["stop"], "temperature.stop")
     points = sec["points"]
+    if isinstance(points, float) and points.is_integer():
+        points = int(points)
     if isinstance(points, bool) or not isinstance(points, int) or points < 2:
         raise ConfigError("temperature.points", points, "must be a whole number >= 2")
     if points > 100_000:

@@ -438,6 +438,22 @@ def _split_start(item: str) -> tuple[str, Any | None]:
     return key, text
 
 
+def _bounds_from_items(items: Sequence[str], bounds: dict) -> list[str]:
+    """Move ``KEY=LOW:HIGH`` items into ``bounds`` (in place); return the remaining items."""
+    out = []
+    for item in items:
+        key, text = _split_start(item)
+        if text is not None and ":" in text:
+            if key in bounds:
+                raise ConfigError(f"--free {key}", text, "bounds given twice (here and in "
+                                  "--bounds); give them once")
+            bounds[key] = text
+            out.append(key)
+        else:
+            out.append(item)
+    return out
+
+
 def _apply_starts(data: Mapping, items: Sequence[str]) -> tuple[dict, list[str]]:
     """Set ``KEY=START`` items in plain config data; return (data, keys)."""
     from .config import parse_override
@@ -836,7 +852,8 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
     """One joint least-squares fit over several samples.
 
     ``shared`` keys take one value for all samples; ``per_sample`` keys one value per sample.
-    Items may carry a start (``KEY=START``), applied to every sample's config. Weighting is by
+    Items may carry a start (``KEY=START``), applied to every sample's config, or bounds
+    (``KEY=LOW:HIGH``, e.g. ``scattering.boundary.grain_size=10nm:100um``). Weighting is by
     uncertainties only if every sample has them (otherwise relative for all, with a warning).
     See the module docstring for the method.
     """
@@ -847,6 +864,10 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
     names = [s.name for s in samples]
     if len(set(names)) != len(names):
         raise ConfigError("samples", ", ".join(names), "sample names must be unique")
+    # KEY=LOW:HIGH items are bounds (the start stays the config value)
+    bounds = dict(bounds or {})
+    shared = _bounds_from_items(shared, bounds)
+    per_sample = _bounds_from_items(per_sample, bounds)
     # starts given as KEY=START apply to every sample's config
     shared_keys = [_split_start(item)[0] for item in shared]
     per_keys = [_split_start(item)[0] for item in per_sample]
@@ -864,7 +885,6 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
     if not shared_keys and not per_keys:
         raise ConfigError("--free", allowed="name at least one key to fit, e.g. --free "
                           "material.gruneisen")
-    bounds = dict(bounds or {})
     for key in bounds:
         if key not in shared_keys and key not in per_keys:
             raise ConfigError(f"--bounds {key}", bounds[key], "bounds are only for free keys")

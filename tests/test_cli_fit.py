@@ -232,3 +232,22 @@ def test_demo_series_example_runs(tmp_path):
     # the invented demo data were made with γ = 1.4 (examples/fit-demo/make_data.py)
     assert abs(float(g[2]) - 1.4) < 3 * float(g[3])
     assert not math.isnan(float(g[3]))
+
+
+def test_free_with_bounds_in_one_item(tmp_path):
+    # the form: --free KEY=LOW:HIGH gives bounds (the start is the config value)
+    from pathlib import Path
+
+    demo = Path(__file__).resolve().parents[1] / "examples" / "fit-demo"
+    out = tmp_path / "fb"
+    r = runner.invoke(app, ["fit", str(demo / "base.yaml"), str(demo / "FH-11_coarse.csv"),
+                            "--free", "material.gruneisen",
+                            "--free", "scattering.boundary.grain_size=10nm:100um", "-o", str(out)])
+    assert r.exit_code == 0, r.output
+    rec = json.loads((out / "run.json").read_text())
+    assert "scattering.boundary.grain_size" in json.dumps(rec)
+    r = runner.invoke(app, ["fit", str(demo / "base.yaml"), str(demo / "FH-11_coarse.csv"),
+                            "--free", "scattering.boundary.grain_size=1nm:2nm",
+                            "-o", str(tmp_path / "bad")])
+    assert r.exit_code == 2 and "must contain the start value" in r.output
+    assert not (tmp_path / "bad").exists()

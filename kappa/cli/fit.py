@@ -17,7 +17,8 @@ as a 68 % band) the residuals are weighted by the uncertainties; without, relati
 are used and the errors are scaled by the residual scatter.
 
 Free keys are dotted config keys (see 'kappa check'); KEY=START also sets the start value
-(needed for a mechanism that is not in the config). Log-space fit for positive quantities;
+(needed for a mechanism that is not in the config); KEY=LOW:HIGH sets bounds, e.g.
+--free scattering.boundary.grain_size=10nm:100um (the same as --bounds KEY=LOW:HIGH). Log-space fit for positive quantities;
 several seeded starts; standard errors, correlations, AIC/BIC, and warnings for parameters at
 bounds, strongly correlated pairs, parameters the data do not need, and high-temperature
 upturns (bipolar conduction).
@@ -61,8 +62,9 @@ def fit_command(
                                                   exists=True, dir_okay=False)] = None,
     data: Annotated[Path | None, typer.Argument(help="CSV with 'T [K]' and 'kappa_L [W/(m K)]'.",
                                                 exists=True, dir_okay=False)] = None,
-    free: Annotated[list[str] | None, typer.Option("--free", help="Key to fit, KEY or "
-                                                   "KEY=START (repeatable).")] = None,
+    free: Annotated[list[str] | None, typer.Option("--free", help="Key to fit: KEY, "
+                                                   "KEY=START or KEY=LOW:HIGH (bounds, with "
+                                                   "units; repeatable).")] = None,
     bounds: Annotated[list[str] | None, typer.Option("--bounds", help="KEY=LOW:HIGH with "
                                                      "units (repeatable).")] = None,
     window: Annotated[str | None, typer.Option("--window", help="Fit only LOW:HIGH, e.g. "
