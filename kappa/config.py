@@ -29,7 +29,7 @@ from typing import Any
 import numpy as np
 import yaml
 
-from .errors import ConfigError, warn
+from .errors import ConfigError, KappaError, warn
 from .material import (
     POLARIZATIONS,
     Branch,
@@ -69,6 +69,8 @@ MATERIAL_KEYS: dict[str, tuple[Parameter, str]] = {
     "longitudinal_velocity": _q("longitudinal_velocity", "m/s", "longitudinal velocity v_L"),
     "transverse_velocity": _q("transverse_velocity", "m/s", "transverse velocity v_T"),
     "gruneisen": _q("gruneisen", "1", "Grüneisen parameter γ"),
+    "density": _q("density", "kg/m**3", "mass density ρ (with composition or atomic_mass: "
+                  "gives atomic_volume)", display="g/cm**3"),
 }
 BRANCH_KEYS: dict[str, tuple[Parameter, str]] = {
     "count": _q("count", "1", "number of branches of this polarization"),
@@ -82,7 +84,7 @@ TEMPERATURE_KEYS: dict[str, tuple[Parameter, str]] = {
 }
 TOP_KEYS = ("material", "scattering", "temperature", "notes")
 _BRANCH_ALL = ("polarization", *BRANCH_KEYS)
-_MATERIAL_ALL = ("name", *MATERIAL_KEYS, "branches")
+_MATERIAL_ALL = ("name", "composition", *MATERIAL_KEYS, "branches")
 _TEMPERATURE_ALL = ("start", "stop", "points", "spacing", "values")
 
 
@@ -327,12 +329,7 @@ def config_from_dict(data: Mapping, source: str = "<dict>", *, check_physics: bo
 def _material(sec: dict, derived: dict) -> Material:
     for k in sec:
         _known(k, _MATERIAL_ALL, f"material.{k}")
-    for k in ("atomic_mass", "atomic_volume"):
-        if k not in sec:
-            raise ConfigError(f"material.{k}", allowed=f"missing; {MATERIAL_KEYS[k][0].description}"
-                              f" is required (e.g. {_EXAMPLE[k]})")
-    mass = _number(MATERIAL_KEYS["atomic_mass"], sec["atomic_mass"], "material.atomic_mass")
-    volume = _number(MATERIAL_KEYS["atomic_volume"], sec["atomic_volume"], "material.atomic_volume")
+    mass, volume = _mass_and_volume(sec, derived)
     name = str(sec.get("name", "") or "")
     if "branches" in sec and sec["branches"] is not None:
         clash = [k for k in ("debye_temperature", "sound_velocity", "gruneisen",
@@ -379,6 +376,51 @@ def _material(sec: dict, derived: dict) -> Material:
         derived["material.debye_temperature"] = (f"{theta:.6g} K (from sound velocity and "
                                                  "volume per atom)")
     return Material.averaged(mass, volume, theta, v, gamma, name)
+
+
+def _mass_and_volume(sec: dict, derived: dict) -> tuple[float, float]:
+    """Mean mass per atom [kg] and volume per atom [m³], given or derived (and reported).
+
+    ``composition`` (a formula) gives the mean atomic mass from standard atomic weights;
+    ``density`` with the mean atomic mass gives the volume per atom, V₀ = M̄/ρ.
+    """
+    from .composition import mean_molar_mass
+    from .constants import N_A, u
+
+    for a, b in (("atomic_mass", "composition"), ("atomic_volume", "density")):
+        if a in sec and b in sec:
+            raise ConfigError(f"material.{b}", sec[b], f"give either material.{a} or "
+                              f"material.{b}, not both")
+    if "atomic_mass" in sec:
+        mass = _number(MATERIAL_KEYS["atomic_mass"], sec["atomic_mass"], "material.atomic_mass")
+    elif "composition" in sec:
+        formula = sec["composition"]
+        if not isinstance(formula, str) or not formula.strip():
+            raise ConfigError("material.composition", formula,
+                              "must be a chemical formula, e.g. Mg2Si0.4Sn0.6")
+        try:
+            mass = mean_molar_mass(formula.strip(), "material.composition") / N_A
+        except KappaError as exc:
+            raise ConfigError(exc.key, exc.value, exc.allowed) from None
+        derived["material.atomic_mass"] = (f"{mass / u:.6g} u (mean mass per atom of "
+                                           f"{formula.strip()}, IUPAC standard atomic weights)")
+    else:
+        raise ConfigError("material.atomic_mass", allowed="missing; the mean mass per atom is "
+                          f"required (e.g. {_EXAMPLE['atomic_mass']}), or give "
+                          "material.composition")
+    if "atomic_volume" in sec:
+        volume = _number(MATERIAL_KEYS["atomic_volume"], sec["atomic_volume"],
+                         "material.atomic_volume")
+    elif "density" in sec:
+        rho = _number(MATERIAL_KEYS["density"], sec["density"], "material.density")
+        volume = mass / rho
+        derived["material.atomic_volume"] = (f"{volume / 1e-30:.6g} angstrom**3 (mean atomic "
+                                             "mass / density)")
+    else:
+        raise ConfigError("material.atomic_volume", allowed="missing; the volume per atom is "
+                          f"required (e.g. {_EXAMPLE['atomic_volume']}), or give "
+                          "material.density")
+    return mass, volume
 
 
 def _branches(value: Any, volume: float, derived: dict) -> tuple[Branch, ...]:
@@ -550,14 +592,19 @@ def numeric_keys(config: Config) -> dict[str, Parameter]:
     """Every numeric key a fit or sweep can vary in this config (dotted path → Parameter)."""
     keys: dict[str, Parameter] = {}
     m = config.material
+    sec = config.data.get("material", {})
     keys["material.atomic_mass"] = MATERIAL_KEYS["atomic_mass"][0]
     keys["material.atomic_volume"] = MATERIAL_KEYS["atomic_volume"][0]
+    if "density" in sec:  # the volume is derived from it; vary the density instead
+        keys.pop("material.atomic_volume")
+        keys["material.density"] = MATERIAL_KEYS["density"][0]
+    if "composition" in sec:  # the mass is derived from the formula
+        keys.pop("material.atomic_mass")
     if m.per_branch:
         for i in range(len(m.branches)):
             for k in ("debye_temperature", "sound_velocity", "gruneisen"):
                 keys[f"material.branches.{i}.{k}"] = BRANCH_KEYS[k][0]
     else:
-        sec = config.data.get("material", {})
         for k in ("debye_temperature", "sound_velocity", "gruneisen"):
             keys[f"material.{k}"] = MATERIAL_KEYS[k][0]
         if "longitudinal_velocity" in sec:
@@ -582,7 +629,7 @@ def resolved_value(config: Config, key: str) -> float:
             return float(getattr(m.branches[_index(key, parts[2], list(m.branches))], parts[3]))
         if parts[1] in ("debye_temperature", "sound_velocity", "gruneisen") and not m.per_branch:
             return float(getattr(m.branches[0], parts[1]))
-        if parts[1] in ("longitudinal_velocity", "transverse_velocity"):
+        if parts[1] in ("longitudinal_velocity", "transverse_velocity", "density"):
             p = MATERIAL_KEYS[parts[1]]
             return _number(p, get_value(config.data, key), key)
     if parts[0] == "scattering" and len(parts) == 3:

@@ -207,3 +207,19 @@ def test_overrides(tmp_path):
     with pytest.raises(ConfigError, match="KEY=VALUE"):
         load_config(p, ["scattering.boundary.grain_size"])
     assert np.all(load_config(p).temperature == c.temperature)
+
+
+def test_mass_and_volume_from_composition_and_density():
+    # Si: standard atomic weight 28.085 (IUPAC abridged), density 2.329 g/cm³ (REFERENCES.md, P);
+    # V₀ = M̄/ρ must match the handbook lattice constant, a³/8 = 5.431³/8 = 20.02 Å³ (handbook).
+    mat = {k: v for k, v in BASE["material"].items() if k not in ("atomic_mass", "atomic_volume")}
+    mat.update(composition="Si", density="2.329 g/cm^3")
+    c = config_from_dict(set_value(BASE, "material", mat))
+    assert c.material.atomic_mass / 1.66053906892e-27 == pytest.approx(28.085, abs=1e-3)
+    assert c.material.atomic_volume / 1e-30 == pytest.approx(5.431**3 / 8, rel=1e-3)
+    assert {"material.atomic_mass", "material.atomic_volume"} <= set(c.derived)
+    assert "material.density" in numeric_keys(c)
+    with pytest.raises(ConfigError, match="not both"):
+        config_from_dict(set_value(BASE, "material.composition", "Si"))
+    with pytest.raises(ConfigError, match="unknown element"):
+        config_from_dict(set_value(set_value(BASE, "material", mat), "material.composition", "Qq2"))
