@@ -18,12 +18,15 @@ frequency ν = ω/2π is
 
 **Closure.** The cumulative over frequency at ν is pre_j (I₁(x) + β I₂(x)) with the integrals
 from 0 to x = hν/(k_B T) computed by the same quadrature and kernel as ``kappa predict``, so its
-last value (x = θ_j/T, cut at x = 40 as everywhere in kappa) is κ_L of ``predict``. The
-cumulative over mean free path merges the branches: it sums pre_j q_i w(x_i) τ_eff(x_i) over the
-nodes x_i of a finer fixed rule (Gauss–Legendre panels, 10× the panels of the kernel's rule,
-plus the kernel's small-x blocks) ordered by Λ; its total is checked against κ_L to 10⁻⁶.
-Λ50 and Λ80 are the mean free paths below which 50 % and 80 % of κ_L is carried
-(interpolated in ln Λ between nodes).
+last value (x = θ_j/T, cut at x = 40 as everywhere in kappa) is κ_L of ``predict``.
+
+**Cumulative over mean free path**, all branches merged: K(Λ) = Σ_j pre_j ∫_{Λ_j(x) ≤ Λ}
+τ_eff w dx. Λ_j(x) ≤ Λ is a polynomial inequality in x,
+v_j(1 + β τ_N⁻¹(x)) − Λ (τ_R⁻¹(x) + τ_N⁻¹(x)) ≤ 0 (degree ≤ 4), so the set of phonons with mean
+free path up to Λ is a union of intervals between the real roots of that polynomial; each
+interval's share is a difference of the frequency cumulative above, computed by the kernel. K
+is therefore exact to the kernel's accuracy at every Λ, whether or not Λ(x) is monotonic. Λ50
+and Λ80 are the smallest Λ with K(Λ) ≥ 50 % and 80 % of κ_L (bisection in ln Λ).
 """
 
 from __future__ import annotations
@@ -39,17 +42,13 @@ from .config import Config
 from .constants import h, hbar, k_B
 from .errors import ConfigError
 from .kernels import callaway_integrals
-from .quadrature import EPS_LOW, X_CUT, X_SWITCH, block_rule, phonon_weight, rules
+from .quadrature import EPS_LOW, X_CUT, block_rule, phonon_weight, rules
 from .scattering import NPOW
 
 __all__ = ["Spectrum", "spectrum", "spectrum_table", "mfp_table", "SPECTRUM_POINTS"]
 
 SPECTRUM_POINTS = 200  #: frequencies per branch and temperature in the spectral tables
-_LOG_PANELS = 200  #: fine rule: panels in ln x over [x_s, min(x_top, 2)]
-_LIN_WIDTH = 0.25  #: fine rule: width of the linear panels in x
-_NODES = 8  #: Gauss–Legendre nodes per panel of the fine rule
 _CLOSURE = 1e-6  #: required agreement of the mean-free-path cumulative with κ_L
-_GL = np.polynomial.legendre.leggauss(_NODES)
 _BLOCK = block_rule()
 _CALLAWAY = "Callaway model: J. Callaway, Phys. Rev. 113, 1046 (1959)"
 
@@ -83,9 +82,11 @@ class Spectrum:
     beta : ndarray, shape (nT, nB)
         Callaway's β = I₂/I₃ [s] (0 without normal processes).
     mfp_nodes : tuple of ndarray
-        Per temperature: mean free paths of the fine-rule nodes of all branches, sorted [m].
+        Per temperature: increasing mean free paths Λ (log-spaced where K rises from 10⁻⁴ to
+        1 − 10⁻⁴ of κ_L, then the largest Λ of any phonon) [m].
     mfp_cumulative : tuple of ndarray
-        Per temperature: κ carried by phonons with Λ up to ``mfp_nodes`` [W/(m K)].
+        Per temperature: K(Λ), κ carried by phonons with mean free path up to ``mfp_nodes``
+        [W/(m K)]; the last value is κ_L.
     mfp50, mfp80 : ndarray, shape (nT,)
         Λ below which 50 % / 80 % of κ_L is carried [m].
     config : Config
@@ -108,11 +109,15 @@ class Spectrum:
     mfp80: np.ndarray
     config: Config = field(repr=False)
     citations: list[str] = field(default_factory=list)
+    mfp_models: tuple = field(default=(), repr=False)
 
     def mfp_fraction(self, fraction: float) -> np.ndarray:
-        """Λ below which ``fraction`` (0–1) of κ_L is carried, per temperature [m]."""
-        return np.array([_crossing(lam, cum, fraction)
-                         for lam, cum in zip(self.mfp_nodes, self.mfp_cumulative, strict=True)])
+        """Smallest Λ with K(Λ) ≥ ``fraction`` (0–1) of κ_L, per temperature [m]."""
+        return np.array([_fraction_mfp(models, fraction) for models in self.mfp_models])
+
+    def mfp_cumulative_at(self, t: int, mfp) -> np.ndarray:
+        """K(Λ) at temperature index ``t`` for mean free paths ``mfp`` [m] → [W/(m K)]."""
+        return _cumulative(self.mfp_models[t], np.atleast_1d(np.asarray(mfp, dtype=float)))
 
 
 def _labels(config: Config) -> tuple[str, ...]:
@@ -128,51 +133,6 @@ def _labels(config: Config) -> tuple[str, ...]:
 
 def _poly(c: np.ndarray, x: np.ndarray) -> np.ndarray:
     return c[0] + x * (c[1] + x * (c[2] + x * (c[3] + x * c[4])))
-
-
-def _fine_rule(x_top: float) -> tuple[np.ndarray, np.ndarray]:
-    """Nodes and weights over [x_s, min(x_top, X_CUT)], x_s as in the kernel's rule."""
-    top = min(float(x_top), X_CUT)
-    x_m = min(top, X_SWITCH)
-    t, q = _GL
-    edges = np.linspace(math.log(x_m * EPS_LOW), math.log(x_m), _LOG_PANELS + 1)
-    half = 0.5 * np.diff(edges)[:, None]
-    u = edges[:-1, None] + half * (t + 1.0)
-    xs, qs = [np.exp(u).ravel()], [(half * q * np.exp(u)).ravel()]
-    if top > x_m:
-        n = int(math.ceil((top - x_m) / _LIN_WIDTH - 1e-12))
-        lin = np.linspace(x_m, top, n + 1)
-        half = 0.5 * np.diff(lin)[:, None]
-        xs.append((lin[:-1, None] + half * (t + 1.0)).ravel())
-        qs.append((half * q).ravel())
-    return np.concatenate(xs), np.concatenate(qs)
-
-
-def _small_x_nodes(r: np.ndarray, n: np.ndarray, x_s: float, sums: np.ndarray
-                   ) -> tuple[np.ndarray, np.ndarray]:
-    """Nodes/weights (weight includes w(x)) below x_s, in blocks as the kernel takes them."""
-    bt, bq = _BLOCK
-    xs, ws = [], []
-    lo = x_s
-    sums = sums.copy()
-    for _ in range(38):
-        w_lo = lo * lo * (1.0 - lo * lo / 12.0)
-        rr, rn = _poly(r, lo), _poly(n, lo)
-        tc = w_lo / (rr + rn)
-        f = np.array([tc, tc * rn, tc * rn * rr])
-        if np.all(lo * f <= 1e-10 * sums):
-            break
-        x = lo * bt
-        wq = lo * bq * x * x * (1.0 - x * x / 12.0)
-        rr, rn = _poly(r, x), _poly(n, x)
-        tc = wq / (rr + rn)
-        sums += [tc.sum(), (tc * rn).sum(), (tc * rn * rr).sum()]
-        xs.append(x)
-        ws.append(wq)
-        lo *= 1e-8
-    if not xs:
-        return np.zeros(0), np.zeros(0)
-    return np.concatenate(xs), np.concatenate(ws)
 
 
 def _kernel(tops: np.ndarray, r: np.ndarray, n: np.ndarray) -> np.ndarray:
@@ -225,9 +185,10 @@ def spectrum(config: Config, temperature: Sequence[float] | np.ndarray, *,
     beta = np.zeros((nT, nB))
     nodes_lam: list[np.ndarray] = []
     nodes_cum: list[np.ndarray] = []
+    mfp_models: list[tuple] = []
     for t, temp in enumerate(T):
         scale = (k_B * temp / hbar) ** np.arange(NPOW)  # ω^k → x^k
-        lam_all, dk_all = [], []
+        models = []
         for j, b in enumerate(m.branches):
             r = tables.resistive[j, t] * scale
             n = tables.normal[j, t] * scale
@@ -251,66 +212,162 @@ def spectrum(config: Config, temperature: Sequence[float] | np.ndarray, *,
             for mech in mechs:
                 c = mech.coefficients(m, b, np.array([temp]), s)[:, 0]
                 rates[mech.key][t, j] = _poly(c, omega)
-            # fine-rule nodes for the mean-free-path accumulation
-            xf, qf = _fine_rule(top)
-            wf = qf * phonon_weight(xf)
-            rr, rn = _poly(r, xf), _poly(n, xf)
-            tc = wf / (rr + rn)
-            sums = np.array([tc.sum(), (tc * rn).sum(), (tc * rn * rr).sum()])
-            xb, wb = _small_x_nodes(r, n, xf[0] if xf.size else top, sums)
-            xa, wa = np.concatenate([xb, xf]), np.concatenate([wb, wf])
-            rr, rn = _poly(r, xa), _poly(n, xa)
-            tau_a = (1.0 + bj * rn) / (rr + rn)
-            lam_all.append(b.sound_velocity * tau_a)
-            dk_all.append(pre * wa * tau_a)
-        lam = np.concatenate(lam_all)
-        dk = np.concatenate(dk_all)
-        order = np.argsort(lam, kind="stable")
-        lam, acc = lam[order], np.cumsum(dk[order])
+            models.append(_BranchMFP(r.copy(), n.copy(), float(bj), float(pre), float(top),
+                                     float(b.sound_velocity), float(branch_kappa[t, j])))
+        models_t = tuple(models)
+        mfp_models.append(models_t)
+        grid, acc = _mfp_grid(models_t)
         total = branch_kappa[t].sum()
         if not abs(acc[-1] - total) <= _CLOSURE * total:  # pragma: no cover - a bug guard
             raise RuntimeError(f"mean-free-path accumulation {acc[-1]:.9g} does not close on "
                                f"κ_L = {total:.9g} W/(m K) at {temp:g} K")
-        nodes_lam.append(lam)
+        nodes_lam.append(grid)
         nodes_cum.append(acc)
     kappa = branch_kappa.sum(axis=1)
-    mfp50 = np.array([_crossing(la, ac, 0.5) for la, ac in zip(nodes_lam, nodes_cum, strict=True)])
-    mfp80 = np.array([_crossing(la, ac, 0.8) for la, ac in zip(nodes_lam, nodes_cum, strict=True)])
+    mfp50 = np.array([_fraction_mfp(mm, 0.5) for mm in mfp_models])
+    mfp80 = np.array([_fraction_mfp(mm, 0.8) for mm in mfp_models])
     cites = [_CALLAWAY, *s.citations()]
     return Spectrum(T, _labels(config), freq, spec, cum, mfp, rates, kappa, branch_kappa, beta,
-                    tuple(nodes_lam), tuple(nodes_cum), mfp50, mfp80, config, cites)
+                    tuple(nodes_lam), tuple(nodes_cum), mfp50, mfp80, config, cites,
+                    tuple(mfp_models))
 
 
-def _crossing(lam: np.ndarray, acc: np.ndarray, fraction: float) -> float:
-    """Λ where the accumulation reaches ``fraction`` of its total (linear in ln Λ)."""
-    target = fraction * acc[-1]
-    i = int(np.searchsorted(acc, target, side="left"))
-    i = min(i, acc.size - 1)
-    if i == 0:
-        return float(lam[0])
-    a0, a1 = acc[i - 1], acc[i]
-    u = 0.0 if a1 == a0 else (target - a0) / (a1 - a0)
-    return float(math.exp(math.log(lam[i - 1]) + u * (math.log(lam[i]) - math.log(lam[i - 1]))))
+@dataclass(frozen=True)
+class _BranchMFP:
+    """One branch at one temperature: rates in powers of x [1/s], β [s], prefactor, cutoff."""
+
+    r: np.ndarray
+    n: np.ndarray
+    beta: float
+    pre: float
+    top: float
+    v: float
+    kappa: float
+
+    def mfp(self, x: np.ndarray) -> np.ndarray:
+        rr, rn = _poly(self.r, x), _poly(self.n, x)
+        return self.v * (1.0 + self.beta * rn) / (rr + rn)
+
+    def span(self) -> tuple[float, float]:
+        """Smallest and largest Λ over the phonons that carry heat (x from x_s·10⁻⁸ to top)."""
+        x = np.geomspace(self.top * EPS_LOW * 1e-8, self.top, 4001)
+        lam = self.mfp(x)
+        return float(lam.min()), float(lam.max())
+
+
+_LAM_SLACK = 1e-13  # Λ(x) within this relative distance of Λ counts as "≤ Λ" (constant Λ(x))
+
+
+def _intervals(b: _BranchMFP, lam: float) -> list[tuple[float, float]]:
+    """Intervals of (0, top) where Λ(x) ≤ Λ: between the real roots of a polynomial in x."""
+    lam_c = lam * (1.0 + _LAM_SLACK)
+    c = b.v * b.beta * b.n - lam_c * (b.r + b.n)
+    c[0] += b.v
+    scale = b.top ** np.arange(NPOW)  # x = top·y keeps the roots near [0, 1]
+    cy = c * scale
+    nz = np.flatnonzero(cy != 0.0)
+    roots: list[float] = []
+    if nz.size and nz[-1] >= 1:
+        deg = int(nz[-1])
+        for z in np.roots(cy[deg::-1]):
+            if abs(z.imag) <= 1e-6 * abs(z) and 0.0 < z.real < 1.0:
+                roots.append(_polish(cy[: deg + 1], float(z.real)) * b.top)
+    pts = [0.0, *sorted(x for x in roots if 0.0 < x < b.top), b.top]
+    out = []
+    for lo, hi in zip(pts[:-1], pts[1:], strict=True):
+        if hi <= lo:
+            continue
+        mid = 0.5 * (lo + hi) if lo > 0 else hi * 1e-3 if hi > 0 else hi
+        if _poly(c, np.array(mid)) <= 0.0:
+            if out and out[-1][1] == lo:
+                out[-1] = (out[-1][0], hi)
+            else:
+                out.append((lo, hi))
+    return out
+
+
+def _polish(cy: np.ndarray, y: float) -> float:
+    """A few Newton steps on the polynomial with coefficients ``cy`` (ascending) from y."""
+    d = cy[1:] * np.arange(1, cy.size)
+    for _ in range(4):
+        p = np.polynomial.polynomial.polyval(y, cy)
+        dp = np.polynomial.polynomial.polyval(y, d)
+        if dp == 0.0:
+            break
+        step = p / dp
+        if not math.isfinite(step) or abs(step) > 0.5 * max(y, 1e-300):
+            break
+        y -= step
+    return y
+
+
+def _cumulative(models: Sequence[_BranchMFP], lams: np.ndarray) -> np.ndarray:
+    """K(Λ) [W/(m K)] for every Λ in ``lams`` (one kernel call per branch)."""
+    out = np.zeros(lams.size)
+    for b in models:
+        per = [_intervals(b, float(lam)) for lam in lams]
+        ends = sorted({x for iv in per for pair in iv for x in pair if 0.0 < x < b.top})
+        G = {0.0: 0.0, b.top: b.kappa}
+        if ends:
+            ints = _kernel(np.array(ends), b.r, b.n)
+            for x, (i1, i2, _) in zip(ends, ints, strict=True):
+                G[x] = b.pre * (i1 + b.beta * i2)
+        for k, iv in enumerate(per):
+            out[k] += sum(G[hi] - G[lo] for lo, hi in iv)
+    return out
+
+
+def _fraction_mfp(models: Sequence[_BranchMFP], fraction: float) -> float:
+    """Smallest Λ with K(Λ) ≥ fraction·κ_L: bisection in ln Λ (K is a non-decreasing step or
+    continuous function of Λ)."""
+    total = sum(b.kappa for b in models)
+    target = fraction * total
+    spans = [b.span() for b in models]
+    lo = math.log(min(s[0] for s in spans)) - 1e-9
+    hi = math.log(max(s[1] for s in spans)) + 1e-9
+    if _cumulative(models, np.array([math.exp(lo)]))[0] >= target:
+        return math.exp(lo)
+    for _ in range(200):
+        mid = 0.5 * (lo + hi)
+        if _cumulative(models, np.array([math.exp(mid)]))[0] >= target:
+            hi = mid
+        else:
+            lo = mid
+        if hi - lo < 1e-14:
+            break
+    return math.exp(hi)
+
+
+def _mfp_grid(models: Sequence[_BranchMFP], points: int = 200
+              ) -> tuple[np.ndarray, np.ndarray]:
+    """Λ grid for tables and figures and K(Λ) on it; the last point is the largest Λ (K = κ_L)."""
+    lo, hi = _fraction_mfp(models, 1e-4), _fraction_mfp(models, 1.0 - 1e-4)
+    grid = np.geomspace(lo, hi, points) if hi > lo * (1 + 1e-9) else np.array([lo])
+    top = max(b.span()[1] for b in models)
+    total = sum(b.kappa for b in models)
+    acc = _cumulative(models, grid)
+    if top > grid[-1] * (1 + 1e-12):
+        grid = np.append(grid, top)
+        acc = np.append(acc, total)
+    else:
+        acc[-1] = max(acc[-1], _cumulative(models, np.array([top]))[0])
+    return grid, acc
 
 
 def mfp_table(result: Spectrum, points: int = 200) -> list[tuple[str, np.ndarray]]:
     """Long-form columns ``T [K]``, ``mfp [nm]``, ``kappa_cumulative [W/(m K)]``.
 
-    Per temperature: ``points`` mean free paths log-spaced between those where the
-    accumulation reaches 10⁻⁴ and 1 − 10⁻⁴ of κ_L, then the largest node's Λ (where the
-    accumulation equals κ_L). Values are the accumulation up to each Λ (nodes with Λ ≤ it).
+    Per temperature: ``points`` mean free paths log-spaced between those where K(Λ) reaches
+    10⁻⁴ and 1 − 10⁻⁴ of κ_L, then the largest Λ of any phonon (where K equals κ_L); values are
+    K(Λ), exact to the kernel's accuracy (see the module notes).
     """
     Ts, lams, accs = [], [], []
-    for temp, lam, acc in zip(result.temperature, result.mfp_nodes, result.mfp_cumulative,
-                              strict=True):
-        lo, hi = _crossing(lam, acc, 1e-4), _crossing(lam, acc, 1.0 - 1e-4)
-        grid = np.geomspace(lo, hi, points) if hi > lo * (1 + 1e-9) else np.array([lo])
-        grid = np.append(grid[grid < lam[-1]], lam[-1])
-        idx = np.searchsorted(lam, grid, side="right") - 1
-        vals = np.where(idx >= 0, acc[np.maximum(idx, 0)], 0.0)
+    for temp, models in zip(result.temperature, result.mfp_models, strict=True):
+        grid, acc = (_mfp_grid(models, points) if points != 200 else
+                     (result.mfp_nodes[len(Ts)], result.mfp_cumulative[len(Ts)]))
         Ts.append(np.full(grid.size, temp))
         lams.append(grid)
-        accs.append(vals)
+        accs.append(acc)
     return [("T [K]", np.concatenate(Ts)), ("mfp [nm]", np.concatenate(lams) * 1e9),
             ("kappa_cumulative [W/(m K)]", np.concatenate(accs))]
 

@@ -177,13 +177,11 @@ def plot_cumulative(sp: Spectrum):
             ax_f.plot(sp.frequency[t, j] / 1e12, sp.cumulative[t, j], color=color,
                       ls=_STYLES[j % 4], label=f"{_fmt_T(sp.temperature[t])}, {label}")
         lam, acc = sp.mfp_nodes[t], sp.mfp_cumulative[t]
-        lo, hi = sp.mfp_fraction(1e-4)[t], sp.mfp_fraction(1 - 1e-4)[t]
-        keep = (lam >= lo) & (lam <= hi)
-        if keep.sum() >= 2:
-            ax_l.step(lam[keep] * 1e9, acc[keep], where="post", color=color,
-                      label=_fmt_T(sp.temperature[t]))
+        keep = lam <= lam[0] * 1e6 if lam.size > 2 else np.ones(lam.size, dtype=bool)
+        if lam.size >= 2 and keep.sum() >= 2:
+            ax_l.plot(lam[keep] * 1e9, acc[keep], color=color, label=_fmt_T(sp.temperature[t]))
         else:  # a single mean free path (e.g. boundary scattering only)
-            ax_l.plot([lo * 1e9, lo * 1e9], [0, acc[-1]], color=color,
+            ax_l.plot([lam[0] * 1e9, lam[0] * 1e9], [0, acc[-1]], color=color,
                       label=_fmt_T(sp.temperature[t]))
         ax_l.axvline(sp.mfp50[t] * 1e9, color=color, lw=0.8, ls="--")
     ax_f.set_xlabel("frequency ν = ω/2π [THz]")

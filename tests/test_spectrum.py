@@ -133,3 +133,52 @@ def test_table_columns():
 def test_spectrum_rejects_bad_temperature():
     with pytest.raises(ConfigError, match="> 0 K"):
         spectrum(config_from_dict(AVERAGED), [300.0, -1.0])
+
+
+def test_mean_free_path_cumulative_against_independent_quadrature():
+    # K(Λ) = ∫_{Λ(x) ≤ Λ} τ w dx / ∫ τ w dx with Λ = vτ, written here from DESIGN §2 with
+    # scipy quad and brentq (resistive scattering only, so Λ(x) falls with x).
+    import math
+
+    from scipy import constants as c
+    from scipy.integrate import quad
+    from scipy.optimize import brentq
+
+    from kappa.spectrum import mfp_table
+
+    data = {"material": {"atomic_mass": "60 u", "atomic_volume": "25 angstrom**3",
+                         "debye_temperature": "400 K", "sound_velocity": "3.5 km/s",
+                         "gruneisen": 1.5},
+            "scattering": {"umklapp": {"scale": 1.3, "exponent_divisor": 2.5},
+                           "boundary": {"grain_size": "0.3 um", "specularity": 0.2},
+                           "point_defect": {"mass_variance": 0.02, "strain_variance": 0.01}}}
+    M, V, th, v, g, L, G = 60 * c.atomic_mass, 25e-30, 400.0, 3500.0, 1.5, 0.45e-6, 0.03
+    for T in (77.0, 300.0):
+        wt = c.k * T / c.hbar
+
+        def rate(x, T=T, wt=wt):
+            w = x * wt
+            return (1.3 * c.hbar * g**2 / (M * v**2 * th) * w**2 * T * math.exp(-th / (2.5 * T))
+                    + v / L + V * G * w**4 / (4 * math.pi * v**3))
+
+        def f(x, rate=rate):
+            return x**4 * math.exp(-x) / (-math.expm1(-x)) ** 2 / rate(x)
+
+        top = th / T
+        total = quad(f, 0, top, epsabs=0, epsrel=1e-12, limit=500)[0]
+
+        def K(lam, rate=rate, f=f, top=top, total=total):
+            x0 = brentq(lambda x: v / rate(x) - lam, 1e-300, top, xtol=1e-300, rtol=1e-14)
+            return quad(f, x0, top, epsabs=0, epsrel=1e-12, limit=500)[0] / total
+
+        lo, hi = v / rate(top) * (1 + 1e-12), v / rate(1e-300) * (1 - 1e-12)
+        l50 = brentq(lambda lam, K=K: K(lam) - 0.5, lo, hi, rtol=1e-13)
+        l80 = brentq(lambda lam, K=K: K(lam) - 0.8, lo, hi, rtol=1e-13)
+        sp = spectrum(config_from_dict(data), [T])
+        assert sp.mfp50[0] == pytest.approx(l50, rel=1e-4)
+        assert sp.mfp80[0] == pytest.approx(l80, rel=1e-4)
+        cols = dict(mfp_table(sp))
+        lam, acc = cols["mfp [nm]"] * 1e-9, cols["kappa_cumulative [W/(m K)]"]
+        for i in range(0, lam.size - 1, 23):
+            assert acc[i] / sp.kappa_L[0] == pytest.approx(K(lam[i]), abs=1e-5)
+        assert acc[-1] == pytest.approx(sp.kappa_L[0], rel=1e-9)
