@@ -51,6 +51,7 @@ __all__ = [
     "parameter_for",
     "numeric_keys",
     "config_to_yaml",
+    "check_temperatures",
 ]
 
 
@@ -186,10 +187,26 @@ def parse_override(item: str) -> tuple[str, Any]:
     return key, value
 
 
+_RANGE_KEYS = ("start", "stop", "points", "spacing")
+
+
 def apply_overrides(data: dict, overrides: Iterable[str]) -> dict:
-    """Return a copy of ``data`` with every ``KEY=VALUE`` override applied."""
+    """Return a copy of ``data`` with every ``KEY=VALUE`` override applied.
+
+    Setting ``temperature.values`` replaces a start/stop/points range, and setting one of
+    ``temperature.start``/``stop``/``points``/``spacing`` replaces a ``values`` list.
+    """
     for item in overrides:
         key, value = parse_override(item)
+        temp = data.get("temperature")
+        if isinstance(temp, dict) and key.startswith("temperature."):
+            leaf = key.split(".")[1]
+            if leaf == "values":
+                data = set_value(data, "temperature",
+                                 {k: v for k, v in temp.items() if k not in _RANGE_KEYS})
+            elif leaf in _RANGE_KEYS and "values" in temp:
+                data = set_value(data, "temperature",
+                                 {k: v for k, v in temp.items() if k != "values"})
         data = set_value(data, key, value)
     return data
 
@@ -245,7 +262,8 @@ def _index(key: str, part: str, seq: list) -> int:
     except ValueError:
         raise ConfigError(key, part, "a list position must be a number 0, 1, ...") from None
     if not 0 <= i < len(seq):
-        raise ConfigError(key, part, f"list position must be 0 to {len(seq) - 1}")
+        raise ConfigError(key, allowed=f"there is no list position {i}; this list has "
+                          f"positions 0 to {len(seq) - 1}")
     return i
 
 
@@ -489,12 +507,28 @@ def _scattering(sec: dict, material: Material) -> Scattering:
                 kwargs[p.name] = _number((p, p.unit), part[p.name], pkey)
         mechanisms.append(cls(**kwargs))
     scattering = Scattering(tuple(mechanisms))
+    _check_normal_form(sec.get("normal"), scattering)
     normal = scattering.normal
     if normal is not None and normal.form == "branch" and not material.per_branch:
         raise ConfigError("scattering.normal.form", "branch",
                           "the branch forms need material.branches; use form: ratio for the "
                           "averaged model")
     return scattering
+
+
+def _check_normal_form(written: Any, scattering: Scattering) -> None:
+    """A normal-process parameter that the chosen form does not use is an error, not ignored."""
+    n = scattering.get("normal")
+    if n is None or not isinstance(written, dict):
+        return
+    if n.form == "branch" and n.ratio != 0.0:
+        raise ConfigError("scattering.normal.ratio", written.get("ratio"),
+                          "is used only with form: ratio (this config has form: branch; "
+                          "its strength is scattering.normal.scale)")
+    if n.form == "ratio" and n.scale != 1.0:
+        raise ConfigError("scattering.normal.scale", written.get("scale"),
+                          "is used only with form: branch (this config has form: ratio; "
+                          "its strength is scattering.normal.ratio)")
 
 
 def _temperature(value: Any) -> np.ndarray:
@@ -552,15 +586,25 @@ def _check_physics(config: Config) -> None:
     mass_u = m.atomic_mass / 1.66053906660e-27
     if not 1.0 <= mass_u <= 300.0:
         warn(f"material.atomic_mass = {mass_u:.4g} u per atom is outside 1–300 u")
-    if config.temperature is not None:
-        theta = max(b.debye_temperature for b in m.branches)
-        if config.temperature.max() > 3.0 * theta:
-            warn(f"temperatures up to {config.temperature.max():.4g} K exceed 3θ "
-                 f"({3 * theta:.4g} K); the Debye/Callaway model is not meant for that range")
-        if config.scattering.get("boundary") is None and config.temperature.min() < theta / 30:
-            warn("no boundary scattering: below about θ/30 "
-                 f"({theta / 30:.3g} K) κ_L grows without bound as Umklapp freezes out; add "
-                 "scattering.boundary with the grain or sample size")
+
+
+def check_temperatures(config: Config, temperature) -> None:
+    """Warn about temperatures the model is not meant for (called where they are used).
+
+    T above 3θ (the largest branch θ); without boundary scattering, T below θ/30 where κ_L
+    grows without bound as Umklapp freezes out.
+    """
+    T = np.atleast_1d(np.asarray(temperature, dtype=float))
+    if T.size == 0:
+        return
+    theta = max(b.debye_temperature for b in config.material.branches)
+    if T.max() > 3.0 * theta:
+        warn(f"temperatures up to {T.max():.4g} K exceed 3θ ({3 * theta:.4g} K); the "
+             "Debye/Callaway model is not meant for that range")
+    if config.scattering.get("boundary") is None and T.min() < theta / 30:
+        warn("no boundary scattering: below about θ/30 "
+             f"({theta / 30:.3g} K) κ_L grows without bound as Umklapp freezes out; add "
+             "scattering.boundary with the grain or sample size")
 
 
 _EXAMPLE = {"atomic_mass": "'28.0855 u'", "atomic_volume": "'20.02 angstrom**3'"}

@@ -57,7 +57,14 @@ from .conductivity import (
     conductivity_from_rates,
     rate_tables,
 )
-from .config import Config, config_from_dict, numeric_keys, parameter_for, set_value
+from .config import (
+    Config,
+    check_temperatures,
+    config_from_dict,
+    numeric_keys,
+    parameter_for,
+    set_value,
+)
 from .errors import ConfigError, DataError, KappaError, warn
 from .predict import CALLAWAY_CITATION, Prediction, predict
 from .scattering import NPOW, Parameter
@@ -923,6 +930,8 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
         notes.append("uncertainties ignored: sample(s) "
                      + ", ".join(s.name for s, h in zip(samples, have, strict=True) if not h)
                      + " have none, so all samples are fitted with relative residuals")
+    for s in samples:
+        check_temperatures(s.config, s.data.temperature)
     problem = _Problem(samples, params, weighted)
     # the start must be computable (raises a clear ConfigError otherwise)
     model_values([(c, s.data.temperature) for c, s in zip(problem.configs(problem.u0), samples,

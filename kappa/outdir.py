@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import contextlib
 import datetime as _dt
+import os
 import shutil
 import tempfile
 from collections.abc import Iterator, Sequence
@@ -64,6 +65,9 @@ def output_folder(out: str | Path, *, force: bool = False,
     except BaseException:
         shutil.rmtree(tmp, ignore_errors=True)
         raise
+    umask = os.umask(0)
+    os.umask(umask)
+    tmp.chmod(0o777 & ~umask)  # mkdtemp makes 0700; give the folder the usual permissions
     if out.exists():
         shutil.rmtree(out)
     tmp.rename(out)

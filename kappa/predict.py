@@ -10,7 +10,7 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from .conductivity import branch_conductivities
-from .config import Config, config_from_dict, parse_override, set_value
+from .config import Config, check_temperatures, config_from_dict, parse_override, set_value
 from .errors import ConfigError, KappaError
 from .heat_capacity import heat_capacity
 
@@ -66,6 +66,7 @@ def predict(config: Config, temperature: Sequence[float] | np.ndarray | None = N
     """
     T = (config.require_temperature() if temperature is None
          else np.atleast_1d(np.asarray(temperature, dtype=float)))
+    check_temperatures(config, T)
     m, s = config.material, config.scattering
     per_branch = branch_conductivities(m, s, T)
     labels = _branch_labels(config)

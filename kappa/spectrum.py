@@ -38,7 +38,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .conductivity import check_convergence, rate_tables
-from .config import Config
+from .config import Config, check_temperatures
 from .constants import h, hbar, k_B
 from .errors import ConfigError
 from .kernels import callaway_integrals
@@ -171,6 +171,7 @@ def spectrum(config: Config, temperature: Sequence[float] | np.ndarray, *,
     if T.size == 0 or np.any(~(T > 0)) or not np.all(np.isfinite(T)):
         raise ConfigError("--at", T.tolist() if T.size < 8 else "array",
                           "temperatures must be finite and > 0 K")
+    check_temperatures(config, T)
     m, s = config.material, config.scattering
     tables = rate_tables(m, s, T)
     check_convergence(tables.resistive, "with the configured mechanisms")

@@ -31,7 +31,14 @@ from types import SimpleNamespace
 import numpy as np
 
 from .conductivity import lattice_conductivity
-from .config import BRANCH_KEYS, MATERIAL_KEYS, Config, numeric_keys, parameter_for
+from .config import (
+    BRANCH_KEYS,
+    MATERIAL_KEYS,
+    Config,
+    check_temperatures,
+    numeric_keys,
+    parameter_for,
+)
 from .constants import hbar, k_B
 from .errors import ConfigError, KappaError, warn
 from .kernels import callaway_integrals
@@ -411,6 +418,7 @@ def sweep(config: Config, axes: Sequence[Axis], temperature=None, *,
         if T.size == 0 or np.any(~(T > 0)) or not np.all(np.isfinite(T)):
             raise ConfigError("--at", T.tolist() if T.size < 8 else "array",
                               "temperatures must be finite and > 0 K")
+    check_temperatures(config, T)
     plan = _plan(config, axes, T)
     shape = tuple(a.values.size for a in axes)
     outer, inner = plan["outer"], plan["inner"]

@@ -209,3 +209,32 @@ def test_bundled_configs_run_without_warnings(tmp_path, name):
 def test_version():
     r = runner.invoke(app, ["--version"])
     assert r.exit_code == 0 and r.output.startswith("kappa ")
+
+
+def test_set_switches_the_temperature_form(tmp_path):
+    cfg = _write(tmp_path, GOOD)  # start/stop/points
+    out = tmp_path / "v"
+    r = runner.invoke(app, ["predict", str(cfg), "-o", str(out), "--set",
+                            "temperature.values=[150, 250]"])
+    assert r.exit_code == 0, r.output
+    _, rows = _read(out / "kappa_L.csv")
+    assert [row[0] for row in rows] == [150.0, 250.0]
+
+
+def test_unused_normal_parameter_is_an_error(tmp_path):
+    cfg = _write(tmp_path, {**GOOD, "scattering": {"normal": {"ratio": 1.0}}})
+    r = runner.invoke(app, ["predict", str(cfg), "-o", str(tmp_path / "o"), "--set",
+                            "scattering.normal.scale=5"])
+    assert r.exit_code == 2 and "used only with form: branch" in r.output
+
+
+def test_output_folder_has_ordinary_permissions(tmp_path):
+    import os
+    import stat
+
+    cfg = _write(tmp_path, GOOD)
+    out = tmp_path / "perm"
+    assert runner.invoke(app, ["predict", str(cfg), "-o", str(out)]).exit_code == 0
+    umask = os.umask(0)
+    os.umask(umask)
+    assert stat.S_IMODE(out.stat().st_mode) == 0o777 & ~umask

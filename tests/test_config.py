@@ -172,7 +172,6 @@ def test_parameter_for_rejects_unknown_and_text_keys():
 @pytest.mark.parametrize(("key", "value", "fragment"), [
     ("scattering.boundary.grain_size", "0.5 nm", "below 1 nm"),
     ("scattering.point_defect.mass_variance", 1.5, "above 1"),
-    ("temperature.stop", "2500 K", "exceed 3θ"),
     ("material.atomic_volume", 20.02, "outside 1–1000"),
 ])
 def test_dubious_values_warn_and_continue(key, value, fragment):
@@ -181,10 +180,16 @@ def test_dubious_values_warn_and_continue(key, value, fragment):
     assert c is not None
 
 
-def test_no_boundary_at_low_temperature_warns():
+def test_temperature_warnings_come_with_the_temperatures_used():
+    from kappa.predict import predict
+
     data = set_value(BASE, "scattering", {"point_defect": {"mass_variance": 1e-4}})
+    cfg = config_from_dict(set_value(data, "temperature.start", "5 K"))  # no warning yet
     with pytest.warns(KappaWarning, match="no boundary scattering"):
-        config_from_dict(set_value(data, "temperature.start", "5 K"))
+        predict(cfg)
+    with pytest.warns(KappaWarning, match="exceed 3θ"):
+        predict(config_from_dict(BASE), [2500.0])
+    predict(config_from_dict(BASE), [300.0])  # no warning (pytest turns one into an error)
 
 
 def test_load_config_reports_yaml_errors(tmp_path):

@@ -37,6 +37,7 @@ PER_BRANCH_NORMAL = {
 }
 
 
+@pytest.mark.filterwarnings("ignore:no boundary scattering:kappa.errors.KappaWarning")
 @pytest.mark.parametrize("data", [AVERAGED, PER_BRANCH_NORMAL,
                                   {**AVERAGED, "scattering": {"normal": {"ratio": 2.0}}}])
 def test_cumulatives_close_on_kappa_L(data):
@@ -72,6 +73,7 @@ def test_boundary_only_mean_free_path_is_the_effective_length():
     np.testing.assert_allclose(sp.mfp80, expected, rtol=1e-12)
 
 
+@pytest.mark.filterwarnings("ignore:temperatures up to:kappa.errors.KappaWarning")
 def test_umklapp_rate_column_and_high_temperature_trend():
     theta, v, gamma, M = 645.0, 6084.0, 0.56, 28.0855 * U
     data = {**AVERAGED, "scattering": {}}  # Umklapp only (the default mechanism)
