@@ -629,7 +629,7 @@ def _solve(problem: _Problem, starts: Sequence[np.ndarray], fixed: Mapping[int, 
     for s in starts:
         x0 = np.clip(np.asarray(s, dtype=float)[free_idx], lo, hi)
         res = least_squares(fun, x0, jac=jac, bounds=(lo, hi), method="trf", x_scale="jac",
-                            xtol=1e-10, ftol=1e-12, gtol=1e-10, max_nfev=200)
+                            xtol=1e-10, ftol=1e-12, gtol=1e-10, max_nfev=MAX_EVALUATIONS)
         nfev += res.nfev
         res.u = full(res.x)
         results.append(res)
@@ -646,21 +646,39 @@ class _Null:
         self.u, self.fun, self.cost, self.status = u, r, 0.5 * float(r @ r), 1
 
 
+MAX_EVALUATIONS = 1000  #: solver evaluations per start before it stops (reported if reached)
+START_DECADES = 3.0  #: extra starts of an unbounded log-space scattering parameter: ± decades
+START_DECADES_MATERIAL = 1.0  #: the same for material parameters (known within a decade)
+
+
 def _starts(problem: _Problem, count: int, seed: int) -> list[np.ndarray]:
+    """The config's values first, then seeded starts stratified over each parameter's range.
+
+    Each parameter's range (its bounds, or ±START_DECADES decades around the start for an
+    unbounded log-space scattering parameter, ±START_DECADES_MATERIAL for a material one) is cut into ``count − 1`` equal strata; every extra start
+    takes one point from a different stratum per parameter (a Latin hypercube), so the starts
+    cover the range even when there are few of them.
+    """
     rng = np.random.default_rng(seed)
     out = [problem.u0.copy()]
-    for _ in range(max(0, count - 1)):
-        u = problem.u0.copy()
-        for i, p in enumerate(problem.params):
-            lo, hi = p.search
-            if p.space == "log" and not (p.low > 0 and math.isfinite(p.high)):
-                lo = max(lo, u[i] - math.log(10.0))  # ±1 decade unless bounded on both sides
-                hi = min(hi, u[i] + math.log(10.0))
-            elif not (math.isfinite(lo) and math.isfinite(hi)):
-                w = 0.5 * max(abs(u[i]), 1e-12)
-                lo, hi = max(lo, u[i] - w), min(hi, u[i] + w)
-            u[i] = rng.uniform(lo, hi)
-        out.append(u)
+    extra = max(0, count - 1)
+    if not extra:
+        return out
+    columns = []
+    for i, p in enumerate(problem.params):
+        lo, hi = p.search
+        u0 = problem.u0[i]
+        if p.space == "log" and not (p.low > 0 and math.isfinite(p.high)):
+            decades = START_DECADES_MATERIAL if p.key.startswith("material.") else START_DECADES
+            width = decades * math.log(10.0)
+            lo, hi = max(lo, u0 - width), min(hi, u0 + width)
+        elif not (math.isfinite(lo) and math.isfinite(hi)):
+            w = 0.5 * max(abs(u0), 1e-12)
+            lo, hi = max(lo, u0 - w), min(hi, u0 + w)
+        strata = (rng.permutation(extra) + rng.uniform(0.0, 1.0, extra)) / extra
+        columns.append(lo + strata * (hi - lo))
+    for k in range(extra):
+        out.append(np.array([col[k] for col in columns]))
     return out
 
 
@@ -975,6 +993,10 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
         i0 += s.data.size
     delta_bic: dict[str, float] = {}
     messages = list(notes)
+    if getattr(best, "status", 1) == 0:
+        messages.append(f"the solver stopped after {MAX_EVALUATIONS} evaluations without "
+                        "converging; the values are not a minimum (free fewer parameters or "
+                        "give --bounds)")
     if checks:
         for i, p in enumerate(params):
             held, _, more = _solve(problem, [u], fixed={i: problem.u0[i]})
@@ -1031,9 +1053,10 @@ def _diagnostics(params, fitted, corr, delta_bic, sample_fits, weighted, chi2_re
                            "data")
     for label, d in delta_bic.items():
         if d < DELTA_BIC:
-            out.append(f"freeing {label} lowers BIC by {d:.2g} only (less than {DELTA_BIC:g}; "
-                       "holding it at its start value fits about as well): the data do not "
-                       "need it free")
+            change = (f"lowers BIC by only {d:.2g}" if d > 0 else
+                      f"does not lower BIC (it changes by {-d:+.2g})")
+            out.append(f"freeing {label} {change} (less than {DELTA_BIC:g}; holding it at its "
+                       "start value fits about as well): the data do not need it free")
     for p, f in zip(params, fitted, strict=True):
         if p.key != "scattering.boundary.grain_size":
             continue

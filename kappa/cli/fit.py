@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 from typing import Annotated
 
@@ -267,8 +268,12 @@ def _report(result, out, is_series: bool) -> None:
     headers = ["parameter", "value", "stderr", "68 % interval", "unit", "bound"]
     rows = []
     for p in result.parameters:
-        rows.append([p.label, f"{p.shown(p.value):.5g}", f"{_shown_err(p):.2g}",
-                     f"{p.shown(p.low68):.4g} .. {p.shown(p.high68):.4g}",
+        lo, hi = p.low68, p.high68
+        undetermined = not (math.isfinite(lo) and math.isfinite(hi)) or (
+            lo > 0 and hi / lo > 100.0) or not math.isfinite(_shown_err(p))
+        interval = ("undetermined" if undetermined
+                    else f"{p.shown(lo):.4g} .. {p.shown(hi):.4g}")
+        rows.append([p.label, f"{p.shown(p.value):.5g}", f"{_shown_err(p):.2g}", interval,
                      "" if p.display == "1" else p.display, p.at_bound or "-"])
     common.print_table(headers, rows, max_rows=100)
     if result.weighted:
