@@ -24,7 +24,7 @@ from __future__ import annotations
 
 import itertools
 import math
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from types import SimpleNamespace
 
@@ -116,6 +116,18 @@ class Axis:
     @property
     def name(self) -> str:
         return self.key.rsplit(".", 1)[-1]
+
+    @classmethod
+    def of(cls, key: str, values) -> Axis:
+        """An axis from plain SI values (for notebooks): ``Axis.of("scattering.boundary.grain_size",
+        np.geomspace(10e-9, 10e-6, 31))``. Values are checked against the key's allowed range."""
+        p = parameter_for(key)
+        arr = np.atleast_1d(np.asarray(values, dtype=float)).ravel()
+        if arr.size < 1:
+            raise ConfigError(key, "no values", "give at least one value")
+        for v in arr:
+            p.check(key, float(v))
+        return cls(key, arr, p, spec=f"{arr.size} values")
 
 
 def _bare_unit(key: str, p: Parameter) -> str:
@@ -407,6 +419,8 @@ def sweep(config: Config, axes: Sequence[Axis], temperature=None, *,
         averaged model), values that the config rejects, missing temperatures, or a grid point
         where κ_L diverges (no ω⁰–ω² scattering term).
     """
+    if isinstance(axes, Mapping):  # {key: SI values}, the notebook form
+        axes = [a if isinstance(a, Axis) else Axis.of(k, a) for k, a in axes.items()]
     axes = check_axes(axes)
     if temperature is None:
         if config.temperature is None:

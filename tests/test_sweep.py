@@ -226,3 +226,19 @@ def test_many_debye_temperatures_use_the_same_rules():
         c = cfg.with_values({"material.debye_temperature": axes[0].values[i]})
         np.testing.assert_allclose(r.kappa_L[i], lattice_conductivity(c.material, c.scattering, T),
                                    rtol=1e-12)
+
+
+def test_sweep_from_plain_si_arrays():
+    # the notebook form {key: SI values} gives the same numbers as lattice_conductivity
+    import kappa
+    from kappa.sweep import Axis, sweep
+
+    cfg = config_from_dict(AVERAGED)
+    L = np.array([50e-9, 2e-6])
+    r = sweep(cfg, {"scattering.boundary.grain_size": L}, [300.0])
+    for i, li in enumerate(L):
+        c = cfg.with_values({"scattering.boundary.grain_size": li})
+        assert r.kappa_L[i, 0] == pytest.approx(
+            kappa.lattice_conductivity(c.material, c.scattering, [300.0])[0], rel=1e-12)
+    with pytest.raises(ConfigError, match="must be >= 0 and < 1"):
+        Axis.of("scattering.boundary.specularity", [0.5, 1.0])

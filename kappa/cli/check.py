@@ -42,6 +42,10 @@ def check_command(
         mech = key.split(".")[1] if key.startswith("scattering.") else None
         if mech and cfg.scattering.get(mech) is None:
             continue
+        normal = cfg.scattering.get("normal")
+        if normal is not None and key == ("scattering.normal.ratio" if normal.form == "branch"
+                                          else "scattering.normal.scale"):
+            continue  # the parameter of the other normal-process form
         unit = p.display or p.unit
         shown = ureg.Quantity(v, p.unit).to(unit).magnitude if unit != p.unit else v
         typer.echo(f"  {key} = {shown:.6g}{'' if unit == '1' else ' ' + unit}")
@@ -51,6 +55,8 @@ def check_command(
     typer.echo("normal processes: " + (f"form {n.form}" if n else "off"))
     for key, text in cfg.derived.items():
         typer.echo(f"derived: {key} = {text}")
+    if m.per_branch:
+        typer.echo(f"derived: Debye mean of the branch velocities = {m.mean_velocity:.6g} m/s")
     if cfg.temperature is not None:
         T = cfg.temperature
         typer.echo(f"temperature: {T.size} points, {T.min():.6g} K to {T.max():.6g} K")

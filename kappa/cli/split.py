@@ -84,7 +84,11 @@ def parse_uncertainty(text: str | None) -> dict[str, float]:
         key, sep, value = item.partition("=")
         key, value = key.strip(), value.strip()
         if not sep or key not in UNCERTAINTY_KEYS:
-            raise DataError("--uncertainty", item.strip(), allowed)
+            import difflib
+
+            close = difflib.get_close_matches(key, UNCERTAINTY_KEYS, n=1, cutoff=0.6)
+            hint = f"did you mean '{close[0]}'? " if close and sep else ""
+            raise DataError("--uncertainty", item.strip(), hint + allowed)
         try:
             v = float(value[:-1]) / 100.0 if value.endswith("%") else float(value)
         except ValueError:
