@@ -179,7 +179,7 @@ BAD_FILES = [
      "d.csv, row 3 = NaN in column 'kappa [W/(m K)]'"),
     (GOOD, ["--lorenz", "metallic"], "--lorenz = metallic: spb, degenerate"),
     (GOOD, ["--lorenz", "2.0"], "--lorenz = 2.0: spb"),
-    (GOOD, ["--uncertainty", "kapa=0.1"], "--uncertainty = kapa=0.1: comma-separated"),
+    (GOOD, ["--uncertainty", "kapa=0.1"], "--uncertainty = kapa=0.1: did you mean 'kappa'? comma-separated"),
     (GOOD, ["--uncertainty", "kappa=2"], "--uncertainty = kappa=2: a relative uncertainty"),
     (GOOD, ["--fit-window", "300K-450K"], "--fit-window = 300K-450K: two temperatures"),
     (GOOD, ["--fit-window", "450K:300K"], "LOW must be below HIGH"),
