@@ -52,6 +52,7 @@ __all__ = [
     "numeric_keys",
     "config_to_yaml",
     "check_temperatures",
+    "unused_key",
 ]
 
 
@@ -630,6 +631,28 @@ def parameter_for(key: str) -> Parameter:
         return TEMPERATURE_KEYS[parts[1]][0]
     raise ConfigError(key, allowed="not a numeric parameter (see kappa check for the numeric "
                       "keys of a config)")
+
+
+def unused_key(config: Config, key: str) -> str | None:
+    """Why a numeric key has no effect in this config (None if it has one).
+
+    A fit or sweep over such a key would report a parameter the model never sees.
+    """
+    parts = key.split(".")
+    if parts[0] != "scattering" or len(parts) != 3:
+        return None
+    mech = config.scattering.get(parts[1])
+    if parts[1] == "normal" and mech is not None:
+        if mech.form == "branch" and parts[2] == "ratio":
+            return ("scattering.normal.ratio is used only with form: ratio (this config has "
+                    "form: branch; its strength is scattering.normal.scale)")
+        if mech.form == "ratio" and parts[2] == "scale":
+            return ("scattering.normal.scale is used only with form: branch (this config has "
+                    "form: ratio; its strength is scattering.normal.ratio)")
+    if parts[1] == "umklapp" and parts[2] == "exponent_divisor" and mech is not None \
+            and mech.scale == 0:
+        return "Umklapp is switched off (scattering.umklapp.scale = 0)"
+    return None
 
 
 def numeric_keys(config: Config) -> dict[str, Parameter]:

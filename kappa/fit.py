@@ -64,6 +64,7 @@ from .config import (
     numeric_keys,
     parameter_for,
     set_value,
+    unused_key,
 )
 from .errors import ConfigError, DataError, KappaError, warn
 from .predict import CALLAWAY_CITATION, Prediction, predict
@@ -385,6 +386,9 @@ def _free_parameter(config: Config, key: str, sample: str | None,
         raise ConfigError(key, allowed=f"scattering.{parts[1]} is not in the config, so there "
                           f"is no start value; add it to the config or give a start, e.g. "
                           f"--free {key}={_example_start(key)}")
+    reason = unused_key(config, key)
+    if reason:
+        raise ConfigError(f"--free {key}", allowed=f"has no effect in this config: {reason}")
     start = config.value(key)
     space = _space(p)
     label = key if sample is None else f"{key} (sample {sample})"
@@ -646,6 +650,7 @@ class _Null:
         self.u, self.fun, self.cost, self.status = u, r, 0.5 * float(r @ r), 1
 
 
+BAND_MAX_LOG_SIGMA = math.log(10.0)  #: --band refuses a log-space parameter with σ_u above this
 MAX_EVALUATIONS = 1000  #: solver evaluations per start before it stops (reported if reached)
 START_DECADES = 3.0  #: extra starts of an unbounded log-space scattering parameter: ± decades
 START_DECADES_MATERIAL = 1.0  #: the same for material parameters (known within a decade)
@@ -896,6 +901,10 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
     # starts given as KEY=START apply to every sample's config
     shared_keys = [_split_start(item)[0] for item in shared]
     per_keys = [_split_start(item)[0] for item in per_sample]
+    both = set(shared_keys) & set(per_keys)
+    if both:
+        raise ConfigError("free keys", sorted(both)[0], "a key is either shared or per sample, "
+                          "not both")
     as_written = {s.name: s.config for s in samples}  # before any KEY=START
     new_samples = []
     for s in samples:
@@ -939,11 +948,19 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
                               else "") for s in samples)
         raise DataError("--window" if any(s.data.window for s in samples) else "data",
                         f"{n} point{'s' if n != 1 else ''}: {detail}",
-                        f"fitting {k} free parameters needs at least {k + 2} points; widen "
+                        f"fitting {k} free parameter{'s' if k != 1 else ''} needs at least "
+                        f"{k + 2} points; widen "
                         "--window or free fewer parameters")
     have = [s.data.sigma is not None for s in samples]
     weighted = all(have)
     notes: list[str] = []
+    if len(samples) > 1 and per_keys:
+        for s in samples:  # each sample's own parameters need data of that sample
+            if s.data.size < len(per_keys) + 2:
+                notes.append(f"sample {s.name} has {s.data.size} point"
+                             f"{'s' if s.data.size != 1 else ''} for its {len(per_keys)} own "
+                             f"parameter{'s' if len(per_keys) != 1 else ''}: its values rest on "
+                             "too few points to be checked by the data")
     if any(have) and not weighted:
         notes.append("uncertainties ignored: sample(s) "
                      + ", ".join(s.name for s, h in zip(samples, have, strict=True) if not h)
@@ -1289,7 +1306,8 @@ def fit_record(result: FitResult, sample: str | None = None) -> dict:
         "dof": result.dof,
         "parameters": [{"key": result.parameters[i].key, "space": result.spaces[i],
                         "value": result.parameters[i].value, "unit": result.parameters[i].unit,
-                        "stderr": result.parameters[i].stderr} for i in idx],
+                        "stderr": result.parameters[i].stderr,
+                        "at_bound": result.parameters[i].at_bound} for i in idx],
         "covariance": [[float(result.covariance[i, j]) for j in idx] for i in idx],
         "covariance_space": "u = ln(value) for space 'log', u = value [SI] for 'linear'",
     }
@@ -1364,6 +1382,13 @@ def prediction_band(config: Config, record: Mapping, temperature=None, draws: in
     if not np.all(np.isfinite(cov)):
         raise ConfigError("--band", "covariance with infinite entries",
                           "the fit left a parameter undetermined; no band can be drawn")
+    for i, (p, space) in enumerate(zip(params, spaces, strict=True)):
+        sigma_u = math.sqrt(max(cov[i, i], 0.0))
+        if p.get("at_bound") == "search limit" or (space == "log" and sigma_u > BAND_MAX_LOG_SIGMA):
+            raise ConfigError("--band", p["key"], "was not determined by the fit (it ran to its "
+                              "search limit or its 68 % interval spans more than a factor "
+                              f"{math.exp(2 * BAND_MAX_LOG_SIGMA):.0f}); a band from this fit "
+                              "would be meaningless: refit with this key fixed or bounded")
     centre = []
     for p, space in zip(params, spaces, strict=True):
         key = p["key"]

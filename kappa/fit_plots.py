@@ -104,6 +104,8 @@ def plot_fit(result: FitResult, curves: Sequence[Prediction], title: str = "") -
 def add_band(ax: Any, temperature: np.ndarray, low: np.ndarray, high: np.ndarray,
              label: str = "68 % band (fit covariance)") -> Any:
     """Shade the band between ``low`` and ``high`` on ``ax``; returns ``ax``."""
-    ax.fill_between(temperature, low, high, color="tab:blue", alpha=0.25, lw=0, label=label)
+    ax.fill_between(temperature, low, high, color="tab:blue", alpha=0.35, lw=0, label=label)
+    ax.plot(temperature, low, color="tab:blue", lw=0.8)
+    ax.plot(temperature, high, color="tab:blue", lw=0.8)
     ax.legend(fontsize=8)
     return ax

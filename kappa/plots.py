@@ -77,13 +77,18 @@ def plot_prediction(prediction: Prediction, overlays: Sequence[tuple[str, Predic
             ax.plot(p.temperature, p.kappa_L, lw=1.8, label=label)
         ax.plot(T, prediction.kappa_L, color="black", lw=1.2, ls=":", label="config as written")
     else:
-        ax.plot(T, prediction.kappa_L, color="black", lw=2.0, label=r"$\kappa_L$ (all mechanisms)")
+        ax.plot(T, prediction.kappa_L, color="black", lw=2.0 if prediction.without else 1.2,
+                label=r"$\kappa_L$ (all mechanisms)")
         for key, k in prediction.without.items():
             if np.all(np.isnan(k)):
                 continue
             ax.plot(T, k, ls="--", lw=1.2, label=f"without {_TITLES.get(key, key)}")
     if _log_axes(T):
-        log_axes(ax)
+        curves = [prediction.kappa_L, *[p.kappa_L for _, p in overlays],
+                  *[k for k in prediction.without.values() if not np.all(np.isnan(k))]]
+        values = np.concatenate([np.asarray(c)[np.isfinite(c)] for c in curves])
+        log_axes(ax, x=True, y=bool(values.size and values.min() > 0
+                                    and values.max() / values.min() >= 5.0))
     ax.set_xlabel("T [K]")
     ax.set_ylabel(KAPPA_L_LABEL)
     ax.set_title(f"Lattice thermal conductivity: {name}")

@@ -38,6 +38,7 @@ from .config import (
     check_temperatures,
     numeric_keys,
     parameter_for,
+    unused_key,
 )
 from .constants import hbar, k_B
 from .errors import ConfigError, KappaError, warn
@@ -473,6 +474,9 @@ def _plan(config: Config, axes: tuple[Axis, ...], T: np.ndarray) -> dict:
             model = "per-branch (material.branches)" if config.material.per_branch else "averaged"
             raise ConfigError(f"--vary {a.key}", allowed=f"does not apply to this {model} model; "
                               "'kappa check CONFIG' lists the keys it has")
+        reason = unused_key(config, a.key)
+        if reason:
+            raise ConfigError(f"--vary {a.key}", allowed=f"has no effect in this config: {reason}")
     first = {a.key: float(a.values[0]) for a in axes}
     base = config.with_values(first)  # raises for keys that do not apply to this config
     for a in axes:  # the ends of every range must give a valid config; warn about dubious ends

@@ -273,7 +273,8 @@ def _report(result, out, is_series: bool) -> None:
             lo > 0 and hi / lo > 100.0) or not math.isfinite(_shown_err(p))
         interval = ("undetermined" if undetermined
                     else f"{p.shown(lo):.4g} .. {p.shown(hi):.4g}")
-        rows.append([p.label, f"{p.shown(p.value):.5g}", f"{_shown_err(p):.2g}", interval,
+        err = "-" if undetermined else f"{_shown_err(p):.2g}"
+        rows.append([p.label, f"{p.shown(p.value):.5g}", err, interval,
                      "" if p.display == "1" else p.display, p.at_bound or "-"])
     common.print_table(headers, rows, max_rows=100)
     if result.weighted:

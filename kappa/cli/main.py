@@ -54,5 +54,28 @@ _register()
 
 
 def run() -> None:
-    """Console-script entry point."""
-    app()
+    """Console-script entry point.
+
+    Usage errors (a missing argument, a file that does not exist, an option out of range) are
+    printed as one ``error: ...`` line with exit status 2, like every other bad input.
+    """
+    import sys
+
+    try:
+        code = app(standalone_mode=False)
+    except Exception as exc:  # click-style exceptions (typer vendors click in recent versions)
+        name = type(exc).__name__
+        if not hasattr(exc, "format_message") or common.debug():
+            raise
+        if name == "NoArgsIsHelpError" or not hasattr(exc, "exit_code"):
+            exc.show()  # type: ignore[attr-defined]
+            sys.exit(getattr(exc, "exit_code", 2))
+        if name == "Abort":
+            common.echo_err("aborted")
+            sys.exit(1)
+        common.echo_err(f"error: {exc.format_message()}")
+        sys.exit(exc.exit_code if exc.exit_code else 2)
+    except KeyboardInterrupt:
+        common.echo_err("aborted")
+        sys.exit(130)
+    sys.exit(code if isinstance(code, int) else 0)

@@ -81,7 +81,12 @@ def predict_command(
 
     from ..plots import plot_prediction, save
 
-    fig = plot_prediction(prediction, overlays)
+    if fit_band is not None:  # the band is the point of the figure: leave out the other curves
+        import dataclasses
+
+        fig = plot_prediction(dataclasses.replace(prediction, without={}), overlays)
+    else:
+        fig = plot_prediction(prediction, overlays)
     if fit_band is not None:
         from ..fit_plots import add_band
 
