@@ -36,8 +36,8 @@ Method (decisions, also in the README):
 * **Warnings** (also kept in :attr:`FitResult.warnings`): a parameter at a bound or search
   limit; |correlation| > 0.9; a free parameter whose release does not lower BIC by at least 2
   (each is refitted held at its start); a fitted boundary length more than 10× away from the
-  grain size written in the config; χ²_red > 3 (weighted fits); data rising above an A/T + B
-  extrapolation at high temperature (possible bipolar part, which the lattice model lacks).
+  grain size written in the config; χ²_red > 3 (weighted fits); data rising above the
+  high-temperature power-law trend A·T⁻ⁿ (possible bipolar part, which the lattice model lacks).
 """
 
 from __future__ import annotations
@@ -103,7 +103,7 @@ CORRELATION_LIMIT = 0.9  #: |r| above this: "not separately determined"
 DELTA_BIC = 2.0  #: freeing a parameter must lower BIC by at least this much
 BOUNDARY_FACTOR = 10.0  #: fitted boundary length vs. the config's grain size
 CHI2_RED_HIGH = 3.0  #: weighted fit: model misses the data by more than the uncertainties
-BIPOLAR_EXCESS = 0.10  #: relative rise above the A/T + B extrapolation that is flagged
+BIPOLAR_EXCESS = 0.10  #: relative rise above the high-T power-law trend that is flagged
 _SAME_MINIMUM = 1e-6  #: relative cost difference counted as "the same minimum"
 _STEP = 1e-6  #: finite-difference step in the transformed space (relative)
 
@@ -1095,7 +1095,7 @@ def _diagnostics(params, fitted, corr, delta_bic, sample_fits, weighted, chi2_re
     for s in sample_fits:
         flagged = _upturn(s.data)
         if flagged:
-            out.append(f"{s.name}: κ_L rises above an A/T + B extrapolation at "
+            out.append(f"{s.name}: κ_L rises above its high-temperature power-law trend at "
                        f"{_fmt_T(flagged)} (possible bipolar part, which the lattice model "
                        "lacks); consider --window up to below these temperatures")
     return out
@@ -1113,31 +1113,32 @@ def _written_grain_size(config: Config) -> float | None:
 
 
 def _upturn(data: FitData) -> list[float]:
-    """Temperatures where κ_L rises above an A/T + B extrapolation (possible bipolar part).
+    """Temperatures where κ_L rises above its high-temperature power-law trend (possible bipolar
+    part).
 
-    A/T + B is fitted (weighted by 1/σ when given) to the lower two thirds of the temperature
-    range above twice the temperature of the κ_L maximum, where the lattice conductivity is
-    Umklapp-dominated; points of the upper third are flagged when their excess is > 10 % of
-    the extrapolation and > 3σ (σ the uncertainty, or the RMS residual of the A/T + B fit).
+    κ_L = A·T⁻ⁿ is fitted in log–log (n free: Umklapp-limited κ_L falls as T⁻¹ or a little
+    faster) to the lower two thirds of the temperature range above twice the temperature of the
+    κ_L maximum (all points when the data start past the maximum); points of the upper third are flagged when they exceed the extrapolation by
+    more than 10 % and by more than 3× the RMS scatter of the fitted points about the trend.
+    The scatter is used rather than the stated uncertainties, which are often mostly systematic
+    (shared by all temperatures) and then say nothing about the shape.
     """
     T, k = data.temperature, data.kappa_L
-    keep = T >= 2.0 * T[int(np.argmax(k))]
+    peak = int(np.argmax(k))  # data that start on the falling side have no peak to skip
+    keep = ((T >= 2.0 * T[peak]) if peak > 0 else np.ones(T.size, dtype=bool)) & (k > 0)
     T, k = T[keep], k[keep]
-    sig = None if data.sigma is None else data.sigma[keep]
     if T.size < 5:
         return []
     cut = T[0] + 2.0 / 3.0 * (T[-1] - T[0])
     low = T <= cut
     if low.sum() < 3 or (~low).sum() < 1:
         return []
-    A = np.vstack([1.0 / T[low], np.ones(low.sum())]).T
-    w = 1.0 / sig[low] if sig is not None else np.ones(low.sum())
-    coef, *_ = np.linalg.lstsq(A * w[:, None], k[low] * w, rcond=None)
-    pred = coef[0] / T + coef[1]
+    A = np.vstack([np.log(T[low]), np.ones(low.sum())]).T
+    coef, *_ = np.linalg.lstsq(A, np.log(k[low]), rcond=None)
+    pred = np.exp(coef[0] * np.log(T) + coef[1])
     rms = float(np.sqrt(np.mean((k[low] - pred[low]) ** 2)))
-    noise = sig if sig is not None else np.full(T.size, rms)
     excess = k - pred
-    flag = (~low) & (excess > BIPOLAR_EXCESS * np.abs(pred)) & (excess > 3.0 * noise)
+    flag = (~low) & (excess > BIPOLAR_EXCESS * pred) & (excess > 3.0 * rms)
     return [float(t) for t in T[flag]]
 
 

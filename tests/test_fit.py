@@ -343,3 +343,21 @@ def test_start_for_an_absent_mechanism():
     assert res.parameter("scattering.boundary.grain_size").start == pytest.approx(1e-6)
     assert res.value("scattering.boundary.grain_size") == pytest.approx(3e-6, rel=0.2)
     assert cfg.scattering.get("boundary").grain_size == 1e-6  # the input config is unchanged
+
+
+def test_no_upturn_flag_on_pure_lattice_curves():
+    # Umklapp-limited κ_L of the bundled configs falls a little faster than 1/T; that must
+    # not read as a bipolar upturn (a regression: an A/T + B trend did flag it).
+    from pathlib import Path
+
+    from kappa.config import load_config
+    from kappa.fit import _upturn
+    from kappa.predict import predict
+
+    root = Path(__file__).resolve().parents[1] / "configs"
+    for name in ("silicon", "germanium", "lead-telluride", "bismuth-telluride"):
+        cfg = load_config(root / f"{name}.yaml")
+        theta = max(b.debye_temperature for b in cfg.material.branches)
+        T = np.geomspace(40.0, min(800.0, 3 * theta), 25)
+        k = predict(cfg, T).kappa_L
+        assert _upturn(fit_data(T, k, 0.03 * k)) == [], name
