@@ -27,7 +27,6 @@ def registry():
     ureg = pint.UnitRegistry(cache_folder=":auto:")
     # Spellings common in lab files that pint does not know by default.
     ureg.define("Ohm = ohm")
-    ureg.define("Ω = ohm")
     return ureg
 
 

@@ -65,7 +65,7 @@ def test_spectrum_outputs(cfg, tmp_path):
     acc = mfp.get("kappa_cumulative", "W/(m K)")
     assert acc[T == 600.0][-1] == pytest.approx(ref[1], rel=1e-6)
     lines = re.findall(r"half the heat at (\d+) K is carried by phonons with mean free path "
-                       r"above ([\d.e+]+) nm; 80 % by phonons with mean free path below "
+                       r"above ([\d.e+]+) nm, and 20 % by phonons with mean free path above "
                        r"([\d.e+]+) nm", r.output)
     assert [x[0] for x in lines] == ["300", "600"]
     record = json.loads((out / "run.json").read_text())

@@ -86,6 +86,7 @@ def spectrum_command(
         callaway_beta_s=dict(zip(sp.branches, sp.beta.T, strict=True)),
         relaxation_time=("Callaway effective time tau_eff = tau_c (1 + beta/tau_N), "
                          "beta = I2/I3; equal to tau_c without normal processes"),
+        note=NORMAL_NOTE if cfg.scattering.normal is not None else None,
         frequency="nu = omega/(2 pi)",
         resolved_inputs=cfg.data,
         derived=cfg.derived,
@@ -113,9 +114,18 @@ def spectrum_command(
     common.print_table([*headers, "mfp50 [nm]", "mfp80 [nm]"], rows)
     for t in range(T.size):
         typer.echo(f"half the heat at {T[t]:.4g} K is carried by phonons with mean free path "
-                   f"above {_length(sp.mfp50[t])}; 80 % by phonons with mean free path below "
+                   f"above {_length(sp.mfp50[t])}, and 20 % by phonons with mean free path above "
                    f"{_length(sp.mfp80[t])}")
+    if cfg.scattering.normal is not None:
+        common.echo_err(NORMAL_NOTE)
     typer.echo(f"wrote {out}/" + ", ".join(outputs))
+
+
+NORMAL_NOTE = (
+    "note: with normal processes each phonon is given Callaway's effective relaxation time "
+    "τ_c(1 + β/τ_N), which makes the mean free paths of N-dominated phonons nearly equal; the "
+    "split over mean free path then says little about what grains of a given size would do. "
+    "For that, use kappa predict --compare scattering.boundary.grain_size=... or kappa sweep.")
 
 
 def _length(metres: float) -> str:
