@@ -638,9 +638,31 @@ def _solve(problem: _Problem, starts: Sequence[np.ndarray], fixed: Mapping[int, 
         res.u = full(res.x)
         results.append(res)
     best = min(results, key=lambda r: r.cost)
+    best.all_results = results
     same = sum(1 for r in results
                if r.cost <= best.cost * (1 + _SAME_MINIMUM) + 1e-14 * problem.n)
     return best, same, nfev
+
+
+ALT_DELTA_CHI2 = 4.0  #: another start within this Δχ² of the best, far away, is reported
+
+
+def _other_minimum(best, u: np.ndarray, sd: np.ndarray, scale: float, params) -> str:
+    """A warning if another start ended nearly as well at clearly different values."""
+    for r in getattr(best, "all_results", ()):
+        if r is best:
+            continue
+        d_chi2 = 2.0 * (r.cost - best.cost) / scale
+        if d_chi2 > ALT_DELTA_CHI2:
+            continue
+        far = [i for i in range(u.size)
+               if math.isfinite(sd[i]) and sd[i] > 0 and abs(r.u[i] - u[i]) > 3.0 * sd[i]]
+        if far:
+            shown = ", ".join(f"{params[i].label} = {params[i].to_value(r.u[i]):.4g}" for i in far)
+            return (f"another start ended at clearly different values ({shown}) with χ² only "
+                    f"{d_chi2:.2g} higher: the best fit is not unique and the standard errors "
+                    "understate the uncertainty; fix or bound one of these keys")
+    return ""
 
 
 class _Null:
@@ -1010,6 +1032,9 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
         i0 += s.data.size
     delta_bic: dict[str, float] = {}
     messages = list(notes)
+    alt = _other_minimum(best, u, sd, 1.0 if weighted else scale, params)
+    if alt:
+        messages.append(alt)
     if getattr(best, "status", 1) == 0:
         messages.append(f"the solver stopped after {MAX_EVALUATIONS} evaluations without "
                         "converging; the values are not a minimum (free fewer parameters or "
