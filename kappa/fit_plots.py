@@ -11,7 +11,7 @@ from typing import Any
 import numpy as np
 
 from .fit import FitResult
-from .plots import new_figure
+from .plots import KAPPA_L_LABEL, log_axes, new_figure
 from .predict import Prediction
 
 __all__ = ["plot_fit", "add_band"]
@@ -21,20 +21,6 @@ _TITLES = {"umklapp": "Umklapp", "boundary": "boundary", "point_defect": "point 
 
 def _log_axes(T: np.ndarray) -> bool:
     return T.min() > 0 and T.max() / T.min() >= 5.0
-
-
-_NICE = np.array([1, 2, 3, 5])
-
-
-def _temperature_ticks(ax: Any, lo: float, hi: float) -> None:
-    """Plain-number ticks (20, 50, 100, 200, ...) on a log temperature axis."""
-    decades = 10.0 ** np.arange(np.floor(np.log10(lo)), np.ceil(np.log10(hi)) + 1)
-    ticks = np.array([d * n for d in decades for n in _NICE])
-    ticks = ticks[(ticks >= lo * 0.999) & (ticks <= hi * 1.001)]
-    if ticks.size > 8:
-        ticks = ticks[np.isin(ticks / 10.0 ** np.floor(np.log10(ticks)), (1, 2, 5))]
-    ax.set_xticks(ticks, [f"{t:g}" for t in ticks])
-    ax.tick_params(axis="x", which="minor", labelbottom=False)
 
 
 def plot_fit(result: FitResult, curves: Sequence[Prediction], title: str = "") -> Any:
@@ -66,17 +52,13 @@ def plot_fit(result: FitResult, curves: Sequence[Prediction], title: str = "") -
         else:
             ax.plot(d.temperature, d.kappa_L, "o", ms=4, color="tab:red", label="data")
         if _log_axes(curve.temperature):
-            ax.set_xscale("log")
-            ax.set_yscale("log")
-            rax.set_xscale("log")
-            for a in (ax, rax):
-                _temperature_ticks(a, float(curve.temperature.min()),
-                                   float(curve.temperature.max()))
+            log_axes(ax)  # plain-number ticks at 1, 2, 5 × 10ⁿ on both axes
+            log_axes(rax, y=False)
         lo = float(np.nanmin(d.kappa_L))
         hi = float(np.nanmax(d.kappa_L))
         if ax.get_yscale() == "log":
             ax.set_ylim(lo / 2.0, hi * 2.0)
-        ax.set_ylabel("κ_L [W/(m K)]")
+        ax.set_ylabel(KAPPA_L_LABEL)
         ax.set_title(s.name if n > 1 else (title or f"Fit: {s.config.material.name or s.name}"),
                      fontsize=10)
         ax.grid(True, which="both", alpha=0.3)

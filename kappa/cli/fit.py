@@ -202,7 +202,7 @@ def _header(result, extra: str, sample: str | None) -> str:
                        f"{_shown_err(p):.2g}" for p in result.parameters
                        if p.sample in (None, sample))
     stat = (f"chi2_red = {result.chi2_red:.4g}" if result.weighted
-            else f"rms relative residual = {100 * result.scatter:.3g} %")
+            else f"relative residual scatter √(RSS/(n−k)) = {100 * result.scatter:.3g} %")
     return (f"Fitted by kappa fit {version()} ({extra}).\n"
             f"Fitted: {fitted}.\n"
             f"Joint fit: n = {result.n_points} points, k = {result.n_free} free; {stat}; "
@@ -282,7 +282,8 @@ def _report(result, out, is_series: bool) -> None:
                    f"{result.chi2_red:.4g} (n = {result.n_points}, k = {result.n_free})")
     else:
         typer.echo(f"no uncertainties given: errors scaled by the residual scatter "
-                   f"(rms relative residual {100 * result.scatter:.3g} %, n = {result.n_points}, "
+                   f"(relative scatter √(RSS/(n−k)) = {100 * result.scatter:.3g} %, "
+                   f"n = {result.n_points}, "
                    f"k = {result.n_free})")
     typer.echo(f"AIC = {result.aic:.5g}, BIC = {result.bic:.5g}; {result.converged} of "
                f"{result.starts} starts reached the best minimum")

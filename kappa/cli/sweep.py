@@ -123,8 +123,8 @@ def sweep_command(
                           "300K,600K) or a temperature section in the config")
     points = grid_points(axes, T.size)
     if points > MAX_POINTS and not yes:
-        raise ConfigError("--vary", f"{points:.3g} points",
-                          f"more than {MAX_POINTS:.0e} points; add --yes to run it anyway "
+        raise ConfigError("--vary", f"{points:,} κ_L points",
+                          f"that is more than {MAX_POINTS:,}; add --yes to run it anyway "
                           "(the table needs about 50 bytes per point)")
     out = out or default_out(config, "sweep")
     check_out(out, force=force, inputs=[config])
@@ -183,8 +183,9 @@ def _summary(result, names: list[str], elapsed: float) -> None:
     for t in pick(T.size, 12):
         kt = k[..., t]
         lo, hi = np.unravel_index(np.argmin(kt), kt.shape), np.unravel_index(np.argmax(kt), kt.shape)
-        where = [", ".join(f"{n.split(' [')[0]}={a.shown[i]:.4g}" for n, a, i in
-                           zip(names, axes, ix, strict=True)) for ix in (lo, hi)]
+        where = [", ".join(f"{n.split(' [')[0]}={a.shown[i]:.4g}"
+                           + ("" if a.unit in ("1", "") else f" {a.unit}")
+                           for n, a, i in zip(names, axes, ix, strict=True)) for ix in (lo, hi)]
         rows.append([T[t], kt[lo], where[0], kt[hi], where[1], result.reference[t]])
     common.print_table(["T [K]", "min kappa_L", "at", "max kappa_L", "at", "config kappa_L"],
                        rows)
