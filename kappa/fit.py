@@ -1265,11 +1265,22 @@ def series_from_dict(data: Any, base: str | Path, *, nan: str = "raise") -> Seri
             cfg = config_from_dict(d, f"{path} ({name})")
         win = item.get("window", window)
         files.append(base / str(item["data"]))
-        fdata = read_fit_data(files[-1], window=None if win is None else str(win), nan=nan,
-                              name=name)
+        if not files[-1].is_file():
+            raise ConfigError(f"{key}.data", str(item["data"]),
+                              f"file not found (looked for {files[-1]})")
+        try:
+            fdata = read_fit_data(files[-1], window=None if win is None else str(win), nan=nan,
+                                  name=name)
+        except KappaError as exc:
+            if exc.key == "--window":  # name the series key the window came from
+                where = f"{key}.window" if "window" in item else "series.window"
+                raise ConfigError(where, exc.value, exc.allowed) from None
+            raise
         samples.append(SeriesSample(name, cfg, fdata))
-    if len(set(names := [s.name for s in samples])) != len(names):
-        raise ConfigError("series.samples", ", ".join(names), "sample names must be unique")
+    names = [s.name for s in samples]
+    if len({n.lower() for n in names}) != len(names):
+        raise ConfigError("series.samples", ", ".join(names), "sample names must be unique "
+                          "(ignoring upper/lower case: they name output folders)")
     return Series(tuple(samples), tuple(shared), tuple(per), bounds, tuple(files))
 
 
