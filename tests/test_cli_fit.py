@@ -251,3 +251,21 @@ def test_free_with_bounds_in_one_item(tmp_path):
                             "-o", str(tmp_path / "bad")])
     assert r.exit_code == 2 and "must contain the start value" in r.output
     assert not (tmp_path / "bad").exists()
+
+
+def test_free_key_without_effect_is_refused(tmp_path):
+    import yaml
+
+    cfg = tmp_path / "ratio.yaml"
+    cfg.write_text(yaml.safe_dump({
+        "material": {"atomic_mass": "50 u", "atomic_volume": "20 angstrom**3",
+                     "debye_temperature": "400 K", "sound_velocity": "4000 m/s",
+                     "gruneisen": 1.5},
+        "scattering": {"boundary": {"grain_size": "200 nm"}, "normal": {"ratio": 2.0}}}))
+    data = tmp_path / "d.csv"
+    data.write_text("T [K],kappa_L [W/(m K)]\n100,10\n200,6\n300,4\n400,3\n500,2.5\n")
+    out = tmp_path / "o"
+    r = runner.invoke(app, ["fit", str(cfg), str(data), "--free", "scattering.normal.scale",
+                            "-o", str(out)])
+    assert r.exit_code == 2 and "has no effect in this config" in r.output
+    assert not out.exists()

@@ -238,3 +238,16 @@ def test_output_folder_has_ordinary_permissions(tmp_path):
     umask = os.umask(0)
     os.umask(umask)
     assert stat.S_IMODE(out.stat().st_mode) == 0o777 & ~umask
+
+
+def test_usage_errors_are_one_line_through_the_console_script(tmp_path):
+    # the installed entry point (not CliRunner) turns usage errors into one 'error:' line
+    import subprocess
+    import sys
+
+    cmd = [sys.executable, "-m", "kappa", "predict", str(tmp_path / "missing.yaml")]
+    r = subprocess.run(cmd, capture_output=True, text=True, check=False)
+    assert r.returncode == 2
+    lines = [ln for ln in r.stderr.splitlines() if ln.strip()]
+    assert len(lines) == 1 and lines[0].startswith("error: ") and "missing.yaml" in lines[0]
+    assert "Traceback" not in r.stderr
