@@ -251,3 +251,19 @@ def test_usage_errors_are_one_line_through_the_console_script(tmp_path):
     lines = [ln for ln in r.stderr.splitlines() if ln.strip()]
     assert len(lines) == 1 and lines[0].startswith("error: ") and "missing.yaml" in lines[0]
     assert "Traceback" not in r.stderr
+
+
+def test_check_prints_the_cahill_minimum(tmp_path):
+    # Silicon, VRH velocities v_L = 8950, v_T = 5345 m/s, V₀ = 20.02 Å³: κ_min = 1.148 W/(m K)
+    # at 300 K and 1.48 W/(m K) high-T (REFERENCES.md, D from Cahill, Watson & Pohl 1992).
+    mat = {k: v for k, v in GOOD["material"].items() if k != "sound_velocity"}
+    mat.update(longitudinal_velocity="8950 m/s", transverse_velocity="5345 m/s")
+    cfg = _write(tmp_path, {**GOOD, "material": mat})
+    r = runner.invoke(app, ["check", str(cfg)])
+    assert r.exit_code == 0, r.output
+    import re
+
+    m = re.search(r"κ_min = ([\d.]+) W/\(m K\) at 300 K, ([\d.]+) W/\(m K\) high-T", r.output)
+    assert m is not None
+    assert float(m.group(1)) == pytest.approx(1.148, rel=0.01)
+    assert float(m.group(2)) == pytest.approx(1.48, rel=0.01)

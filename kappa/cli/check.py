@@ -57,6 +57,16 @@ def check_command(
         typer.echo(f"derived: {key} = {text}")
     if m.per_branch:
         typer.echo(f"derived: Debye mean of the branch velocities = {m.mean_velocity:.6g} m/s")
+    from ..limits import cahill_minimum
+
+    velocities = [b.sound_velocity for b in m.branches for _ in range(
+        max(1, round(b.count)) if m.per_branch else 1)]
+    if "longitudinal_velocity" in cfg.data.get("material", {}):
+        velocities = [resolved_value(cfg, "material.longitudinal_velocity"),
+                      resolved_value(cfg, "material.transverse_velocity")]
+    kmin = cahill_minimum([300.0, 1e5], m.number_density, velocities)
+    typer.echo(f"estimate: Cahill–Watson–Pohl minimum κ_min = {kmin[0]:.3g} W/(m K) at 300 K, "
+               f"{kmin[1]:.3g} W/(m K) high-T limit (from the volume per atom and velocities)")
     if cfg.temperature is not None:
         T = cfg.temperature
         typer.echo(f"temperature: {T.size} points, {T.min():.6g} K to {T.max():.6g} K")
