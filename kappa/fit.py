@@ -260,6 +260,31 @@ def _window_text(win: tuple[float, float] | None) -> str:
     return f"{lo}:{hi}"
 
 
+#: Other names accepted for the columns of fit data (exact spelling).
+FIT_ALIASES = {
+    "T": ("temperature", "Temperature", "temp"),
+    "kappa_L": ("kappa_lattice", "kappaL", "k_L", "kappa_lat"),
+    "kappa_L_err": ("kappa_L_sigma", "kappa_L_unc", "kappa_L_error", "dkappa_L"),
+}
+
+
+def _fit_columns(table):
+    """Rename accepted alternative column names (``kappa_lattice``, ...) to the canonical ones."""
+    from dataclasses import replace
+
+    from .tables import Table
+
+    lookup = {a: name for name, aliases in FIT_ALIASES.items() for a in aliases}
+    cols: dict = {}
+    for col in table.columns.values():
+        name = lookup.get(col.name, col.name)
+        if name in cols:
+            raise DataError(f"{table.source}, column '{col.header}'", col.name,
+                            f"gives the same quantity as column '{cols[name].header}'; keep one")
+        cols[name] = replace(col, name=name)
+    return Table(source=table.source, columns=cols)
+
+
 def read_fit_data(path: str | Path, *, window: tuple[float, float] | str | None = None,
                   nan: str = "raise", name: str | None = None) -> FitData:
     """Read a CSV with ``T [K]`` and ``kappa_L [W/(m K)]`` (units converted) for a fit.
@@ -269,7 +294,7 @@ def read_fit_data(path: str | Path, *, window: tuple[float, float] | str | None 
     """
     from .tables import read_table
 
-    table = read_table(path)
+    table = _fit_columns(read_table(path))
     src = table.source
     if "T" not in table:
         raise DataError(src, "no column 'T [...]'", "the fit needs a temperature column, "

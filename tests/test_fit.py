@@ -361,3 +361,16 @@ def test_no_upturn_flag_on_pure_lattice_curves():
         T = np.geomspace(40.0, min(800.0, 3 * theta), 25)
         k = predict(cfg, T).kappa_L
         assert _upturn(fit_data(T, k, 0.03 * k)) == [], name
+
+
+def test_fit_data_column_names_and_units(tmp_path):
+    # spelled-out names and lab units are accepted (unit conversions: SI definitions)
+    from kappa.fit import read_fit_data
+
+    p = tmp_path / "alt.csv"
+    p.write_text("temperature [degC],kappa_lattice [mW/(cm K)],kappa_L_sigma [mW/(cm K)]\n"
+                 "26.85,100,3\n126.85,60,2\n226.85,40,1\n", encoding="utf-8")
+    d = read_fit_data(p)
+    assert d.temperature == pytest.approx([300.0, 400.0, 500.0])
+    assert d.kappa_L == pytest.approx([10.0, 6.0, 4.0])  # 1 mW/(cm K) = 0.1 W/(m K)
+    assert d.sigma == pytest.approx([0.3, 0.2, 0.1])
