@@ -29,6 +29,7 @@ __all__ = [
     "conductivity_from_rates",
     "check_convergence",
     "branch_prefactors",
+    "integrals",
 ]
 
 
@@ -103,20 +104,7 @@ def conductivity_from_rates(x_top: np.ndarray, prefactor: np.ndarray, res_omega:
         scale[:, k] = scale[:, k - 1] * wt
     res_x = np.ascontiguousarray(res_omega * scale)
     nrm_x = np.ascontiguousarray(nrm_omega * scale)
-    tops = np.minimum(np.asarray(x_top, dtype=float), X_CUT)
-    bt, bq = _BLOCK
-    out = np.empty((tops.size, 3))
-    uniq, grid = np.unique(tops, return_inverse=True)
-    if uniq.size > 64 and uniq.size > tops.size // 4:
-        # nearly every sample has its own upper limit: build rules inside the kernel
-        log_t, log_q, lin_t, lin_q = _FREE
-        log_w = _q.phonon_weight(_q.X_SWITCH * log_t)
-        callaway_integrals_free(np.ascontiguousarray(tops), res_x, nrm_x, log_t, log_q, log_w,
-                                lin_t, lin_q, _q.X_SWITCH, _q.EPS_LOW, _q.LIN_WIDTH, bt, bq, out)
-    else:
-        xx, wq, count, x_s = rules(uniq)
-        callaway_integrals(xx, wq, count, x_s, grid.astype(np.int64).ravel(), res_x, nrm_x,
-                           bt, bq, out)
+    out = integrals(x_top, res_x, nrm_x)
     i1, i2, i3 = out[:, 0], out[:, 1], out[:, 2]
     with np.errstate(invalid="ignore", divide="ignore"):
         corr = np.where(i3 > 0, i2 * i2 / np.where(i3 > 0, i3, 1.0), 0.0)
@@ -125,6 +113,31 @@ def conductivity_from_rates(x_top: np.ndarray, prefactor: np.ndarray, res_omega:
 
 _BLOCK = block_rule()
 _FREE = (*_q.relative_log_rule(), *_q.linear_nodes())
+
+
+def integrals(x_top: np.ndarray, res_x: np.ndarray, nrm_x: np.ndarray) -> np.ndarray:
+    """(I₁, I₂, I₃) from 0 to each upper limit, for flat samples; shape (S, 3) [s].
+
+    ``res_x``, ``nrm_x`` (S, 5) are rate coefficients in powers of x [1/s]. Samples sharing an
+    upper limit share one quadrature rule; when nearly every sample has its own, the rules are
+    built inside the kernel instead.
+    """
+    tops = np.minimum(np.asarray(x_top, dtype=float).ravel(), X_CUT)
+    res_x = np.ascontiguousarray(np.broadcast_to(res_x, (tops.size, NPOW)))
+    nrm_x = np.ascontiguousarray(np.broadcast_to(nrm_x, (tops.size, NPOW)))
+    bt, bq = _BLOCK
+    out = np.empty((tops.size, 3))
+    uniq, grid = np.unique(tops, return_inverse=True)
+    if uniq.size > 64 and uniq.size > tops.size // 4:
+        log_t, log_q, lin_t, lin_q = _FREE
+        log_w = _q.phonon_weight(_q.X_SWITCH * log_t)
+        callaway_integrals_free(tops, res_x, nrm_x, log_t, log_q, log_w, lin_t, lin_q,
+                                _q.X_SWITCH, _q.EPS_LOW, _q.LIN_WIDTH, bt, bq, out)
+    else:
+        xx, wq, count, x_s = rules(uniq)
+        callaway_integrals(xx, wq, count, x_s, grid.astype(np.int64).ravel(), res_x, nrm_x,
+                           bt, bq, out)
+    return out
 
 
 def branch_prefactors(material: Material, T: np.ndarray) -> np.ndarray:

@@ -37,12 +37,11 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .conductivity import check_convergence, rate_tables
+from .conductivity import check_convergence, integrals, rate_tables
 from .config import Config, check_temperatures
 from .constants import h, hbar, k_B
 from .errors import ConfigError
-from .kernels import callaway_integrals
-from .quadrature import EPS_LOW, X_CUT, block_rule, phonon_weight, rules
+from .quadrature import EPS_LOW, X_CUT, block_rule, phonon_weight
 from .scattering import NPOW
 
 __all__ = ["Spectrum", "spectrum", "spectrum_table", "mfp_table", "SPECTRUM_POINTS"]
@@ -137,16 +136,7 @@ def _poly(c: np.ndarray, x: np.ndarray) -> np.ndarray:
 
 def _kernel(tops: np.ndarray, r: np.ndarray, n: np.ndarray) -> np.ndarray:
     """(I₁, I₂, I₃) from 0 to each of ``tops`` for one rate pair (x powers) — the predict kernel."""
-    tops = np.minimum(tops, X_CUT)
-    uniq, grid = np.unique(tops, return_inverse=True)
-    xx, wq, count, x_s = rules(uniq)
-    S = tops.size
-    res = np.ascontiguousarray(np.broadcast_to(r, (S, NPOW)))
-    nrm = np.ascontiguousarray(np.broadcast_to(n, (S, NPOW)))
-    out = np.empty((S, 3))
-    bt, bq = _BLOCK
-    callaway_integrals(xx, wq, count, x_s, grid.astype(np.int64).ravel(), res, nrm, bt, bq, out)
-    return out
+    return integrals(np.asarray(tops, dtype=float), r[None, :], n[None, :])
 
 
 def spectrum(config: Config, temperature: Sequence[float] | np.ndarray, *,
