@@ -27,6 +27,7 @@ def _with(key, value, data=BASE):
 
 
 def test_units_are_converted_to_si():
+    # 1 km/s = 1000 m/s, 1 Å³ = 1e-30 m³ (SI definitions); u = 1.66053906892e-27 kg (CODATA 2022)
     c = config_from_dict(BASE)
     b = c.material.branches[0]
     assert b.sound_velocity == pytest.approx(6084.0)
