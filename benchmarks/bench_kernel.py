@@ -23,8 +23,8 @@ import numba
 import numpy as np
 from scipy.integrate import quad
 
-from kappa.conductivity import conductivity_from_rates
-from kappa.constants import hbar, k_B
+from kappa.core.constants import hbar, k_B
+from kappa.core.evaluator import conductivity_from_rates
 
 ROOT = Path(__file__).resolve().parents[1]
 

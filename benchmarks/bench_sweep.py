@@ -23,9 +23,9 @@ from pathlib import Path
 
 import numba
 
-from kappa.conductivity import lattice_conductivity
-from kappa.config import config_from_dict
-from kappa.sweep import parse_vary, sweep
+from kappa.core.evaluator import lattice_conductivity
+from kappa.io.config import config_from_dict
+from kappa.workflows.sweep import parse_vary, sweep
 
 AVERAGED = {
     "material": {"name": "bench crystal", "atomic_mass": "28.0855 u",

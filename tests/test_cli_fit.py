@@ -11,8 +11,8 @@ import yaml
 from typer.testing import CliRunner
 
 from kappa.cli.main import app
-from kappa.conductivity import lattice_conductivity
-from kappa.config import config_from_dict, load_config
+from kappa.core.evaluator import lattice_conductivity
+from kappa.io.config import config_from_dict, load_config
 
 runner = CliRunner()
 

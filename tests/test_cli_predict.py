@@ -144,7 +144,7 @@ BAD_CLI = [
 
 @pytest.mark.parametrize(("key", "value", "fragment"), BAD_CLI)
 def test_bad_input_exit_2_one_line_no_output(tmp_path, key, value, fragment):
-    from kappa.config import set_value
+    from kappa.io.config import set_value
 
     if key == "material.gruneisn":  # set_value itself refuses unknown keys; write it raw
         data = yaml.safe_load(yaml.safe_dump(GOOD))

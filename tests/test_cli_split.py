@@ -9,7 +9,7 @@ import scipy.constants as sc
 from typer.testing import CliRunner
 
 from kappa.cli.main import app
-from kappa.tables import read_table
+from kappa.io.tables import read_table
 
 from . import spb_reference as ref
 

@@ -9,9 +9,9 @@ import pytest
 from typer.testing import CliRunner
 
 from kappa.cli.main import app
-from kappa.conductivity import lattice_conductivity
-from kappa.config import load_config
-from kappa.tables import read_table
+from kappa.core.evaluator import lattice_conductivity
+from kappa.io.config import load_config
+from kappa.io.tables import read_table
 
 CONFIG = """\
 material:

@@ -3,7 +3,7 @@
 import pytest
 import scipy.constants as sc
 
-from kappa.composition import (
+from kappa.core.composition import (
     ATOMIC_WEIGHTS,
     dulong_petit_heat_capacity,
     mean_molar_mass,

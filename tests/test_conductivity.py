@@ -7,10 +7,10 @@ import pytest
 from scipy import constants as sc
 from scipy.integrate import quad
 
-from kappa.conductivity import lattice_conductivity
+from kappa.core.evaluator import lattice_conductivity
+from kappa.core.material import Branch, Material
+from kappa.core.scattering import Boundary, Normal, PointDefect, Scattering, Umklapp
 from kappa.errors import ConfigError
-from kappa.material import Branch, Material
-from kappa.scattering import Boundary, Normal, PointDefect, Scattering, Umklapp
 
 from .reference import reference_kappa
 
@@ -142,7 +142,7 @@ def test_specular_boundary_equals_longer_diffuse_boundary():
 def test_per_sample_rules_match_shared_rules():
     # Many samples with distinct upper limits take the kernel that builds rules on the fly;
     # it must give the same numbers as the shared-rule kernel (one temperature at a time).
-    from kappa.conductivity import conductivity_from_rates, rate_tables
+    from kappa.core.evaluator import conductivity_from_rates, rate_tables
 
     m = _material(AVG)
     s = _scattering({}, {"L": 1e-6}, {"gamma_m": 1e-3}, {"ratio": 0.5})

@@ -5,14 +5,14 @@ import math
 import numpy as np
 import pytest
 
-from kappa.config import (
+from kappa.errors import ConfigError, KappaWarning
+from kappa.io.config import (
     config_from_dict,
     load_config,
     numeric_keys,
     parameter_for,
     set_value,
 )
-from kappa.errors import ConfigError, KappaWarning
 
 BASE = {
     "material": {"name": "test", "atomic_mass": "28.0855 u", "atomic_volume": "20.02 angstrom**3",
@@ -182,7 +182,7 @@ def test_dubious_values_warn_and_continue(key, value, fragment):
 
 
 def test_temperature_warnings_come_with_the_temperatures_used():
-    from kappa.predict import predict
+    from kappa.workflows.predict import predict
 
     data = set_value(BASE, "scattering", {"point_defect": {"mass_variance": 1e-4}})
     cfg = config_from_dict(set_value(data, "temperature.start", "5 K"))  # no warning yet
@@ -203,7 +203,7 @@ def test_load_config_reports_yaml_errors(tmp_path):
 
 
 def test_overrides(tmp_path):
-    from kappa.records import dump_yaml
+    from kappa.io.records import dump_yaml
 
     p = tmp_path / "c.yaml"
     p.write_text(dump_yaml(BASE), encoding="utf-8")

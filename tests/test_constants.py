@@ -3,7 +3,7 @@
 import pytest
 from scipy import constants as sc
 
-from kappa import constants as kc
+from kappa.core import constants as kc
 
 
 @pytest.mark.parametrize(("ours", "ref"), [

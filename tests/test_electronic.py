@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 import scipy.constants as sc
 
-from kappa.electronic import (
+from kappa.core.electronic import (
     K_B_OVER_E,
     LORENZ_DEGENERATE,
     LORENZ_NONDEGENERATE,

@@ -7,10 +7,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from kappa.conductivity import lattice_conductivity
-from kappa.config import config_from_dict, load_config
+from kappa.core.evaluator import lattice_conductivity
 from kappa.errors import ConfigError, DataError, KappaWarning
-from kappa.fit import (
+from kappa.io.config import config_from_dict, load_config
+from kappa.workflows.fit import (
     SeriesSample,
     fit,
     fit_data,
@@ -350,9 +350,9 @@ def test_no_upturn_flag_on_pure_lattice_curves():
     # not read as a bipolar upturn (a regression: an A/T + B trend did flag it).
     from pathlib import Path
 
-    from kappa.config import load_config
-    from kappa.fit import _upturn
-    from kappa.predict import predict
+    from kappa.io.config import load_config
+    from kappa.workflows.fit import _upturn
+    from kappa.workflows.predict import predict
 
     root = Path(__file__).resolve().parents[1] / "configs"
     for name in ("silicon", "germanium", "lead-telluride", "bismuth-telluride"):
@@ -365,7 +365,7 @@ def test_no_upturn_flag_on_pure_lattice_curves():
 
 def test_fit_data_column_names_and_units(tmp_path):
     # spelled-out names and lab units are accepted (unit conversions: SI definitions)
-    from kappa.fit import read_fit_data
+    from kappa.workflows.fit import read_fit_data
 
     p = tmp_path / "alt.csv"
     p.write_text("temperature [degC],kappa_lattice [mW/(cm K)],kappa_L_sigma [mW/(cm K)]\n"

@@ -4,8 +4,8 @@ import math
 
 import pytest
 
-from kappa.heat_capacity import debye_function, heat_capacity
-from kappa.material import Material
+from kappa.core.heat_capacity import debye_function, heat_capacity
+from kappa.core.material import Material
 
 # C_V/3Nk_B at T/θ: tabulated Debye function values (REFERENCES.md, P and D agree to 6 digits)
 TABLE = [(0.10, 0.075821), (0.20, 0.368635), (1.00, 0.951732), (2.00, 0.987611)]

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 
 from kappa.errors import DataError, KappaWarning
-from kappa.measurements import measurements_from_arrays, read_measurements
+from kappa.workflows.measurements import measurements_from_arrays, read_measurements
 
 
 def write(tmp_path, name, text):

@@ -5,9 +5,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import constants as sc
 
-from kappa.conductivity import lattice_conductivity
-from kappa.material import Branch, Material
-from kappa.scattering import Boundary, Normal, PointDefect, Scattering, Umklapp
+from kappa.core.evaluator import lattice_conductivity
+from kappa.core.material import Branch, Material
+from kappa.core.scattering import Boundary, Normal, PointDefect, Scattering, Umklapp
 
 U = sc.atomic_mass
 

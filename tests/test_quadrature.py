@@ -7,7 +7,7 @@ import pytest
 from scipy.integrate import quad
 from scipy.special import zeta
 
-from kappa.quadrature import X_CUT, phonon_weight, rule
+from kappa.core.quadrature import X_CUT, phonon_weight, rule
 
 
 def _integrate(f, top):

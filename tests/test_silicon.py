@@ -11,8 +11,8 @@ from pathlib import Path
 
 import pytest
 
-from kappa.config import load_config
-from kappa.predict import predict
+from kappa.io.config import load_config
+from kappa.workflows.predict import predict
 
 CONFIG = Path(__file__).resolve().parents[1] / "configs" / "silicon.yaml"
 TOLERANCE = 0.25

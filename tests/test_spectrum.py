@@ -10,10 +10,10 @@ import pytest
 from scipy import constants as sc
 from scipy.integrate import quad
 
-from kappa.conductivity import lattice_conductivity
-from kappa.config import config_from_dict
+from kappa.core.evaluator import lattice_conductivity
 from kappa.errors import ConfigError
-from kappa.spectrum import mfp_table, spectrum, spectrum_table
+from kappa.io.config import config_from_dict
+from kappa.workflows.spectrum import mfp_table, spectrum, spectrum_table
 
 RTOL_CLOSURE = 1e-6  # the brief's requirement for the mean-free-path accumulation
 RTOL_QUADRATURE = 1e-6  # DESIGN §5 accuracy target against adaptive quadrature
@@ -146,7 +146,7 @@ def test_mean_free_path_cumulative_against_independent_quadrature():
     from scipy.integrate import quad
     from scipy.optimize import brentq
 
-    from kappa.spectrum import mfp_table
+    from kappa.workflows.spectrum import mfp_table
 
     data = {"material": {"atomic_mass": "60 u", "atomic_volume": "25 angstrom**3",
                          "debye_temperature": "400 K", "sound_velocity": "3.5 km/s",

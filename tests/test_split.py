@@ -7,10 +7,10 @@ import pytest
 import scipy.constants as sc
 from scipy.integrate import quad
 
-from kappa.electronic import LORENZ_DEGENERATE, lorenz_kim, lorenz_spb
+from kappa.core.electronic import LORENZ_DEGENERATE, lorenz_kim, lorenz_spb
+from kappa.core.limits import cahill_minimum
 from kappa.errors import DataError, KappaWarning
-from kappa.limits import cahill_minimum
-from kappa.split import DEFAULT_UNCERTAINTY, split
+from kappa.workflows.split import DEFAULT_UNCERTAINTY, split
 
 T5 = np.array([300.0, 350.0, 400.0, 450.0, 500.0])
 

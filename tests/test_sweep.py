@@ -10,10 +10,17 @@ import pytest
 from scipy import constants as sc
 from scipy.integrate import quad
 
-from kappa.conductivity import lattice_conductivity
-from kappa.config import config_from_dict
+from kappa.core.evaluator import lattice_conductivity
 from kappa.errors import ConfigError, KappaWarning
-from kappa.sweep import Axis, column_names, grid_points, parse_temperatures, parse_vary, sweep
+from kappa.io.config import config_from_dict
+from kappa.workflows.sweep import (
+    Axis,
+    column_names,
+    grid_points,
+    parse_temperatures,
+    parse_vary,
+    sweep,
+)
 
 RTOL_IDENTITY = 1e-12  # same formulas and kernel: agreement to rounding
 RTOL_QUADRATURE = 1e-6  # DESIGN §5 accuracy target of the fixed rule against adaptive quadrature
@@ -231,7 +238,7 @@ def test_many_debye_temperatures_use_the_same_rules():
 def test_sweep_from_plain_si_arrays():
     # the notebook form {key: SI values} gives the same numbers as lattice_conductivity
     import kappa
-    from kappa.sweep import Axis, sweep
+    from kappa.workflows.sweep import Axis, sweep
 
     cfg = config_from_dict(AVERAGED)
     L = np.array([50e-9, 2e-6])

@@ -3,7 +3,7 @@
 import pytest
 
 from kappa.errors import ConfigError, DataError
-from kappa.units import parse_quantity, unit_factor
+from kappa.io.units import parse_quantity, unit_factor
 
 # Conversion factors are SI definitions (common practice, no source).
 CASES = [

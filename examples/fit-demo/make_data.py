@@ -11,8 +11,8 @@ from pathlib import Path
 
 import numpy as np
 
-from kappa.conductivity import lattice_conductivity
-from kappa.config import load_config
+from kappa.core.evaluator import lattice_conductivity
+from kappa.io.config import load_config
 
 HERE = Path(__file__).parent
 TRUE_GRUNEISEN = 1.4

@@ -9,7 +9,7 @@ from pathlib import Path
 
 import numpy as np
 
-from kappa.electronic import lorenz_spb, spb_seebeck
+from kappa.core.electronic import lorenz_spb, spb_seebeck
 
 HERE = Path(__file__).parent
 rng = np.random.default_rng(20240611)

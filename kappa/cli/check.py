@@ -24,8 +24,8 @@ def check_command(
     set_: Annotated[list[str] | None, typer.Option("--set", help="Override KEY=VALUE "
                                                    "(repeatable).")] = None,
 ) -> None:
-    from ..config import load_config, numeric_keys, resolved_value
-    from ..units import registry
+    from kappa.io.config import load_config, numeric_keys, resolved_value
+    from kappa.io.units import registry
 
     cfg = load_config(config, set_ or [])
     ureg = registry()
@@ -57,7 +57,7 @@ def check_command(
         typer.echo(f"derived: {key} = {text}")
     if m.per_branch:
         typer.echo(f"derived: Debye mean of the branch velocities = {m.mean_velocity:.6g} m/s")
-    from ..limits import cahill_minimum
+    from kappa.core.limits import cahill_minimum
 
     velocities = [b.sound_velocity for b in m.branches for _ in range(
         max(1, round(b.count)) if m.per_branch else 1)]

@@ -10,7 +10,7 @@ from typing import Any, TypeVar
 
 import typer
 
-from ..errors import KappaError, KappaWarning
+from kappa.errors import KappaError, KappaWarning
 
 F = TypeVar("F", bound=Callable[..., Any])
 

@@ -45,7 +45,7 @@ Examples:
 
 
 def _bounds(items: list[str]) -> dict[str, str]:
-    from ..errors import ConfigError
+    from kappa.errors import ConfigError
 
     out: dict[str, str] = {}
     for item in items:
@@ -86,9 +86,9 @@ def fit_command(
     force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")
                      ] = False,
 ) -> None:
-    from ..errors import ConfigError
-    from ..fit import fit, fit_curves, fit_series, parse_window, read_fit_data
-    from ..outdir import check_out, default_out
+    from kappa.errors import ConfigError
+    from kappa.io.outdir import check_out, default_out
+    from kappa.workflows.fit import fit, fit_curves, fit_series, parse_window, read_fit_data
 
     if nan not in ("raise", "omit"):
         raise ConfigError("--nan", nan, "raise or omit")
@@ -112,7 +112,7 @@ def fit_command(
         if not free:
             raise ConfigError("--free", allowed="name at least one key to fit, e.g. --free "
                               "material.gruneisen (see 'kappa check CONFIG' for the keys)")
-        from ..config import load_config
+        from kappa.io.config import load_config
 
         cfg = load_config(config, set_ or [])
         fdata = read_fit_data(data, window=parse_window(window), nan=nan)
@@ -129,8 +129,8 @@ def fit_command(
 def _load_series(path: Path, nan: str):
     import yaml
 
-    from ..errors import ConfigError
-    from ..fit import series_from_dict
+    from kappa.errors import ConfigError
+    from kappa.workflows.fit import series_from_dict
 
     try:
         data = yaml.safe_load(path.read_text(encoding="utf-8"))
@@ -195,7 +195,7 @@ def _stats(result) -> dict:
 
 
 def _header(result, extra: str, sample: str | None) -> str:
-    from ..records import version
+    from kappa.io.records import version
 
     fitted = ", ".join(f"{p.key} = {p.shown(p.value):.6g}"
                        f"{'' if p.display == '1' else ' ' + p.display} ± "
@@ -212,12 +212,12 @@ def _header(result, extra: str, sample: str | None) -> str:
 
 
 def _write(result, curves, out, force, inputs, meta, is_series: bool) -> None:
-    from ..fit import fit_record, fitted_yaml_data
-    from ..fit_plots import plot_fit
-    from ..outdir import output_folder
-    from ..plots import save
-    from ..records import dump_yaml, run_record, write_json
-    from ..tables import write_table
+    from kappa.io.outdir import output_folder
+    from kappa.io.records import dump_yaml, run_record, write_json
+    from kappa.io.tables import write_table
+    from kappa.presentation.fit import plot_fit
+    from kappa.presentation.style import save
+    from kappa.workflows.fit import fit_record, fitted_yaml_data
 
     rows = _param_rows(result, is_series)
     labels = [p.label for p in result.parameters]

@@ -23,7 +23,7 @@ app = typer.Typer(
 
 def _print_version(flag: bool) -> None:
     if flag:
-        from ..records import version as _version
+        from kappa.io.records import version as _version
 
         typer.echo(f"kappa {_version()}")
         raise typer.Exit(0)

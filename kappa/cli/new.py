@@ -24,7 +24,7 @@ def new_command(
     path: Annotated[Path, typer.Argument(help="Where to write the config.")] = Path("kappa.yaml"),
     force: Annotated[bool, typer.Option("--force", help="Replace an existing file.")] = False,
 ) -> None:
-    from ..errors import KappaError
+    from kappa.errors import KappaError
 
     if path.exists() and not force:
         raise KappaError(str(path), allowed="already exists; choose another name or add --force")

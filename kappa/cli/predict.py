@@ -50,11 +50,11 @@ def predict_command(
                      ] = 400,
     seed: Annotated[int, typer.Option("--seed", help="Seed of the --band draws.")] = 1,
 ) -> None:
-    from ..config import load_config
-    from ..outdir import check_out, default_out, output_folder
-    from ..predict import compare, model_summary, predict
-    from ..records import run_record, write_json
-    from ..tables import write_table
+    from kappa.io.config import load_config
+    from kappa.io.outdir import check_out, default_out, output_folder
+    from kappa.io.records import run_record, write_json
+    from kappa.io.tables import write_table
+    from kappa.workflows.predict import compare, model_summary, predict
 
     cfg = load_config(config, set_ or [])
     out = out or default_out(config, "predict")
@@ -64,7 +64,7 @@ def predict_command(
     columns = [("T [K]", prediction.temperature), ("kappa_L [W/(m K)]", prediction.kappa_L)]
     fit_band = None
     if band:
-        from ..fit import prediction_band, read_fit_record
+        from kappa.workflows.fit import prediction_band, read_fit_record
 
         fit_band = prediction_band(cfg, read_fit_record(config.parent / "fit.json"),
                                    prediction.temperature, draws, seed)
@@ -79,7 +79,7 @@ def predict_command(
             columns.append((f"kappa_L_{label} [W/(m K)]", k))
     columns.append(("C_V [J/(mol K)]", prediction.heat_capacity))
 
-    from ..plots import plot_prediction, save
+    from kappa.presentation.style import plot_prediction, save
 
     if fit_band is not None:  # the band is the point of the figure: leave out the other curves
         import dataclasses
@@ -88,7 +88,7 @@ def predict_command(
     else:
         fig = plot_prediction(prediction, overlays)
     if fit_band is not None:
-        from ..fit_plots import add_band
+        from kappa.presentation.fit import add_band
 
         add_band(fig.axes[0], fit_band.temperature, fit_band.low, fit_band.high)
     record = run_record(

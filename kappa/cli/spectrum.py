@@ -42,14 +42,14 @@ def spectrum_command(
                                              "folder beside the config).")] = None,
     force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")] = False,
 ) -> None:
-    from ..config import load_config
-    from ..errors import ConfigError
-    from ..outdir import check_out, default_out, output_folder
-    from ..predict import model_summary
-    from ..records import run_record, write_json
-    from ..spectrum import mfp_table, spectrum, spectrum_table
-    from ..sweep import parse_temperatures
-    from ..tables import write_table
+    from kappa.errors import ConfigError
+    from kappa.io.config import load_config
+    from kappa.io.outdir import check_out, default_out, output_folder
+    from kappa.io.records import run_record, write_json
+    from kappa.io.tables import write_table
+    from kappa.workflows.predict import model_summary
+    from kappa.workflows.spectrum import mfp_table, spectrum, spectrum_table
+    from kappa.workflows.sweep import parse_temperatures
 
     cfg = load_config(config, set_ or [])
     if not at:
@@ -59,7 +59,7 @@ def spectrum_command(
         raise ConfigError("--at", f"{T.size} temperatures", "at most 20 temperatures")
     theta = max(b.debye_temperature for b in cfg.material.branches)
     if T.max() > 3.0 * theta:
-        from ..errors import warn
+        from kappa.errors import warn
 
         warn(f"temperatures up to {T.max():.4g} K exceed 3θ ({3 * theta:.4g} K); the "
              "Debye/Callaway model is not meant for that range")
@@ -67,8 +67,8 @@ def spectrum_command(
     check_out(out, force=force, inputs=[config])
     sp = spectrum(cfg, T)
 
-    from ..plots import save
-    from ..sweep_plots import plot_cumulative, plot_rates, plot_spectral
+    from kappa.presentation.style import save
+    from kappa.presentation.sweep import plot_cumulative, plot_rates, plot_spectral
 
     figures = {"spectral": plot_spectral(sp), "cumulative": plot_cumulative(sp),
                "rates": plot_rates(sp)}

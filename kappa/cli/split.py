@@ -10,20 +10,20 @@ import numpy as np
 import typer
 
 from kappa.cli import common
-from kappa.electronic import LORENZ_MODELS
+from kappa.core.electronic import LORENZ_MODELS
 from kappa.errors import DataError
-from kappa.measurements import NAN_POLICIES, Measurements, read_measurements
-from kappa.outdir import check_out, default_out, output_folder
-from kappa.records import run_record, write_json
-from kappa.split import (
+from kappa.io.outdir import check_out, default_out, output_folder
+from kappa.io.records import run_record, write_json
+from kappa.io.tables import write_table
+from kappa.io.units import parse_quantity
+from kappa.workflows.measurements import NAN_POLICIES, Measurements, read_measurements
+from kappa.workflows.split import (
     DEFAULT_UNCERTAINTY,
     INTERVAL,
     UNCERTAINTY_KEYS,
     SplitResult,
     split_measurements,
 )
-from kappa.tables import write_table
-from kappa.units import parse_quantity
 
 HELP = f"""Split measured thermal conductivity into lattice and electronic parts.
 
@@ -290,7 +290,7 @@ def split_command(
 def _cahill_from_config(config: Path, number_density: str | None,
                         sound_velocity: list[str] | None) -> tuple[str, list[str]]:
     """Number density and velocities (as option strings) from a config, unless given."""
-    from kappa.config import load_config
+    from kappa.io.config import load_config
 
     m = load_config(config).material
     if number_density is None:
@@ -327,7 +327,7 @@ def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty
                            uncertainty=unc, draws=draws, seed=seed, fit_window=window,
                            number_density=n_density, sound_velocities=velocities)
     lines = summary_lines(r, m)
-    from kappa.split_plots import plot_split
+    from kappa.presentation.split import plot_split
 
     fig = plot_split(r, title=", ".join(p.name for p in data))
     record = run_record(

@@ -97,12 +97,12 @@ def sweep_command(
     force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")] = False,
     yes: Annotated[bool, typer.Option("--yes", help="Allow sweeps above 10^8 points.")] = False,
 ) -> None:
-    from ..config import load_config
-    from ..errors import ConfigError
-    from ..outdir import check_out, default_out, output_folder
-    from ..predict import model_summary
-    from ..records import run_record, write_json
-    from ..sweep import (
+    from kappa.errors import ConfigError
+    from kappa.io.config import load_config
+    from kappa.io.outdir import check_out, default_out, output_folder
+    from kappa.io.records import run_record, write_json
+    from kappa.workflows.predict import model_summary
+    from kappa.workflows.sweep import (
         MAX_POINTS,
         check_axes,
         column_names,
@@ -133,8 +133,8 @@ def sweep_command(
     result = sweep(cfg, axes, T, progress=_Bar())
     elapsed = time.perf_counter() - t0
 
-    from ..plots import save
-    from ..sweep_plots import plot_sweep
+    from kappa.presentation.style import save
+    from kappa.presentation.sweep import plot_sweep
 
     fig = plot_sweep(result)
     names = column_names(axes)
@@ -170,7 +170,7 @@ def sweep_command(
 
 
 def _summary(result, names: list[str], elapsed: float) -> None:
-    from ..sweep_plots import pick
+    from kappa.presentation.sweep import pick
 
     k, T, axes = result.kappa_L, result.temperature, result.axes
     n_sets = k.size // T.size

@@ -9,7 +9,7 @@ import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
-from .predict import Prediction
+from kappa.workflows.predict import Prediction
 
 __all__ = ["new_figure", "save", "plot_prediction", "log_axes", "KAPPA_L_LABEL"]
 

@@ -45,9 +45,9 @@ from pathlib import Path
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .composition import dulong_petit_heat_capacity, mean_molar_mass
-from .errors import DataError, warn
-from .tables import Table, read_table
+from kappa.core.composition import dulong_petit_heat_capacity, mean_molar_mass
+from kappa.errors import DataError, warn
+from kappa.io.tables import Table, read_table
 
 __all__ = ["Measurements", "QUANTITIES", "read_measurements", "measurements_from_arrays",
            "NAN_POLICIES"]
@@ -216,7 +216,7 @@ def _canonical(table: Table) -> Table:
     """
     from dataclasses import replace
 
-    from .units import registry
+    from kappa.io.units import registry
 
     lookup = {alias: name for name, aliases in ALIASES.items() for alias in aliases}
     renamed: dict[str, object] = {}

@@ -13,8 +13,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .constants import hbar, k_B
-from .errors import ConfigError
+from kappa.core.constants import hbar, k_B
+from kappa.errors import ConfigError
 
 __all__ = [
     "Branch",

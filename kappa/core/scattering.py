@@ -20,9 +20,9 @@ from typing import ClassVar
 
 import numpy as np
 
-from .constants import hbar, k_B
-from .errors import ConfigError, warn
-from .material import Branch, Material
+from kappa.core.constants import hbar, k_B
+from kappa.core.material import Branch, Material
+from kappa.errors import ConfigError, warn
 
 __all__ = [
     "Parameter",

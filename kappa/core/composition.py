@@ -17,8 +17,8 @@ from __future__ import annotations
 
 import re
 
-from .constants import R
-from .errors import DataError
+from kappa.core.constants import R
+from kappa.errors import DataError
 
 __all__ = ["ATOMIC_WEIGHTS", "parse_formula", "mean_molar_mass", "dulong_petit_heat_capacity"]
 

@@ -9,10 +9,10 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
-from .conductivity import branch_conductivities
-from .config import Config, check_temperatures, config_from_dict, parse_override, set_value
-from .errors import ConfigError, KappaError
-from .heat_capacity import heat_capacity
+from kappa.core.evaluator import branch_conductivities
+from kappa.core.heat_capacity import heat_capacity
+from kappa.errors import ConfigError, KappaError
+from kappa.io.config import Config, check_temperatures, config_from_dict, parse_override, set_value
 
 __all__ = ["Prediction", "predict", "compare", "CALLAWAY_CITATION", "model_summary"]
 

@@ -8,7 +8,7 @@ import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
-from .split import SplitResult
+from kappa.workflows.split import SplitResult
 
 __all__ = ["plot_split", "plot_kappa", "plot_lorenz", "plot_zT"]
 

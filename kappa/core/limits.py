@@ -12,7 +12,7 @@ from collections.abc import Sequence
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .constants import hbar, k_B
+from kappa.core.constants import hbar, k_B
 
 __all__ = ["cahill_minimum"]
 

@@ -37,12 +37,12 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .conductivity import check_convergence, integrals, rate_tables
-from .config import Config, check_temperatures
-from .constants import h, hbar, k_B
-from .errors import ConfigError
-from .quadrature import EPS_LOW, X_CUT, block_rule, phonon_weight
-from .scattering import NPOW
+from kappa.core.constants import h, hbar, k_B
+from kappa.core.evaluator import check_convergence, integrals, rate_tables
+from kappa.core.quadrature import EPS_LOW, X_CUT, block_rule, phonon_weight
+from kappa.core.scattering import NPOW
+from kappa.errors import ConfigError
+from kappa.io.config import Config, check_temperatures
 
 __all__ = ["Spectrum", "spectrum", "spectrum_table", "mfp_table", "SPECTRUM_POINTS"]
 

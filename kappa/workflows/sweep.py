@@ -30,21 +30,11 @@ from types import SimpleNamespace
 
 import numpy as np
 
-from .conductivity import lattice_conductivity
-from .config import (
-    BRANCH_KEYS,
-    MATERIAL_KEYS,
-    Config,
-    check_temperatures,
-    numeric_keys,
-    parameter_for,
-    unused_key,
-)
-from .constants import hbar, k_B
-from .errors import ConfigError, KappaError, warn
-from .kernels import callaway_integrals
-from .quadrature import X_CUT, block_rule, rules
-from .scattering import (
+from kappa.core.constants import hbar, k_B
+from kappa.core.evaluator import lattice_conductivity
+from kappa.core.kernels import callaway_integrals
+from kappa.core.quadrature import X_CUT, block_rule, rules
+from kappa.core.scattering import (
     NPOW,
     Boundary,
     Normal,
@@ -56,7 +46,17 @@ from .scattering import (
     point_defect_coefficient,
     umklapp_coefficient,
 )
-from .units import parse_quantity, unit_factor
+from kappa.errors import ConfigError, KappaError, warn
+from kappa.io.config import (
+    BRANCH_KEYS,
+    MATERIAL_KEYS,
+    Config,
+    check_temperatures,
+    numeric_keys,
+    parameter_for,
+    unused_key,
+)
+from kappa.io.units import parse_quantity, unit_factor
 
 __all__ = [
     "Axis",

@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from .constants import N_A, k_B
-from .material import Material
-from .quadrature import X_CUT, phonon_weight, rule
+from kappa.core.constants import N_A, k_B
+from kappa.core.material import Material
+from kappa.core.quadrature import X_CUT, phonon_weight, rule
 
 __all__ = ["debye_function", "heat_capacity"]
 

@@ -14,9 +14,9 @@ import math
 import numpy as np
 from matplotlib.colors import LogNorm  # noqa: TID251 - plotting module
 
-from .plots import new_figure
-from .spectrum import Spectrum
-from .sweep import SweepResult, column_names
+from kappa.presentation.style import new_figure
+from kappa.workflows.spectrum import Spectrum
+from kappa.workflows.sweep import SweepResult, column_names
 
 __all__ = ["plot_sweep", "plot_sweep_lines", "plot_sweep_map", "plot_spectral",
            "plot_cumulative", "plot_rates", "pick", "MAX_PANELS", "MAX_LINES"]

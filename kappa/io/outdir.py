@@ -15,7 +15,7 @@ import tempfile
 from collections.abc import Iterator, Sequence
 from pathlib import Path
 
-from .errors import KappaError
+from kappa.errors import KappaError
 
 __all__ = ["default_out", "output_folder", "check_out"]
 

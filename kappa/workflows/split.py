@@ -41,7 +41,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .electronic import (
+from kappa.core.electronic import (
     LORENZ_DEGENERATE,
     LORENZ_MODELS,
     figure_of_merit,
@@ -50,9 +50,9 @@ from .electronic import (
     lorenz_number,
     lorenz_spb,
 )
-from .errors import DataError, warn
-from .limits import cahill_minimum
-from .measurements import Measurements, measurements_from_arrays
+from kappa.core.limits import cahill_minimum
+from kappa.errors import DataError, warn
+from kappa.workflows.measurements import Measurements, measurements_from_arrays
 
 __all__ = ["split", "split_measurements", "SplitResult", "BipolarCheck",
            "DEFAULT_UNCERTAINTY", "UNCERTAINTY_KEYS", "INTERVAL"]
@@ -456,7 +456,7 @@ def split(T: ArrayLike, kappa: ArrayLike, sigma: ArrayLike, seebeck: ArrayLike |
     Examples
     --------
     >>> import numpy as np
-    >>> from kappa.split import split
+    >>> from kappa.workflows.split import split
     >>> T = np.array([300.0, 400.0, 500.0])
     >>> r = split(T, kappa=[1.6, 1.5, 1.5], sigma=[8e4, 6e4, 5e4], seebeck=[180e-6, 200e-6,
     ...           210e-6], draws=500)

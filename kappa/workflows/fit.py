@@ -51,13 +51,15 @@ from typing import Any
 
 import numpy as np
 
-from .conductivity import (
+from kappa.core.evaluator import (
     branch_prefactors,
     check_convergence,
     conductivity_from_rates,
     rate_tables,
 )
-from .config import (
+from kappa.core.scattering import NPOW, Parameter
+from kappa.errors import ConfigError, DataError, KappaError, warn
+from kappa.io.config import (
     Config,
     check_temperatures,
     config_from_dict,
@@ -66,10 +68,8 @@ from .config import (
     set_value,
     unused_key,
 )
-from .errors import ConfigError, DataError, KappaError, warn
-from .predict import CALLAWAY_CITATION, Prediction, predict
-from .scattering import NPOW, Parameter
-from .units import format_quantity, parse_quantity, unit_factor
+from kappa.io.units import format_quantity, parse_quantity, unit_factor
+from kappa.workflows.predict import CALLAWAY_CITATION, Prediction, predict
 
 __all__ = [
     "FitData",
@@ -272,7 +272,7 @@ def _fit_columns(table):
     """Rename accepted alternative column names (``kappa_lattice``, ...) to the canonical ones."""
     from dataclasses import replace
 
-    from .tables import Table
+    from kappa.io.tables import Table
 
     lookup = {a: name for name, aliases in FIT_ALIASES.items() for a in aliases}
     cols: dict = {}
@@ -292,7 +292,7 @@ def read_fit_data(path: str | Path, *, window: tuple[float, float] | str | None 
     Uncertainties are taken from ``kappa_L_err`` or, failing that, from half the width of
     ``kappa_L_low``..``kappa_L_high`` (the 68 % band that ``kappa split`` writes).
     """
-    from .tables import read_table
+    from kappa.io.tables import read_table
 
     table = _fit_columns(read_table(path))
     src = table.source
@@ -492,7 +492,7 @@ def _bounds_from_items(items: Sequence[str], bounds: dict) -> list[str]:
 
 def _apply_starts(data: Mapping, items: Sequence[str]) -> tuple[dict, list[str]]:
     """Set ``KEY=START`` items in plain config data; return (data, keys)."""
-    from .config import parse_override
+    from kappa.io.config import parse_override
 
     out, keys = dict(data), []
     for item in items:
@@ -1224,7 +1224,7 @@ def series_from_dict(data: Any, base: str | Path, *, nan: str = "raise") -> Seri
           - {name: A, data: a.csv, set: {scattering.boundary.grain_size: 2 um}}
           - {name: B, data: b.csv, window: 100K:500K, config: other.yaml}
     """
-    from .config import load_config
+    from kappa.io.config import load_config
 
     base = Path(base)
     if not isinstance(data, dict):

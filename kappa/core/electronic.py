@@ -41,8 +41,8 @@ import math
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .constants import e, k_B
-from .errors import DataError
+from kappa.core.constants import e, k_B
+from kappa.errors import DataError
 
 __all__ = [
     "K_B_OVER_E",

@@ -17,8 +17,8 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import DataError
-from .units import unit_factor
+from kappa.errors import DataError
+from kappa.io.units import unit_factor
 
 __all__ = ["Column", "Table", "read_table", "parse_header", "format_table", "write_table"]
 

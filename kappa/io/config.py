@@ -29,16 +29,16 @@ from typing import Any
 import numpy as np
 import yaml
 
-from .errors import ConfigError, KappaError, warn
-from .material import (
+from kappa.core.material import (
     POLARIZATIONS,
     Branch,
     Material,
     debye_temperature_from_velocity,
     mean_sound_velocity,
 )
-from .scattering import REGISTRY, Parameter, Scattering, Umklapp
-from .units import format_quantity, parse_quantity
+from kappa.core.scattering import REGISTRY, Parameter, Scattering, Umklapp
+from kappa.errors import ConfigError, KappaError, warn
+from kappa.io.units import format_quantity, parse_quantity
 
 __all__ = [
     "Config",
@@ -403,8 +403,8 @@ def _mass_and_volume(sec: dict, derived: dict) -> tuple[float, float]:
     ``composition`` (a formula) gives the mean atomic mass from standard atomic weights;
     ``density`` with the mean atomic mass gives the volume per atom, V₀ = M̄/ρ.
     """
-    from .composition import mean_molar_mass
-    from .constants import N_A, u
+    from kappa.core.composition import mean_molar_mass
+    from kappa.core.constants import N_A, u
 
     for a, b in (("atomic_mass", "composition"), ("atomic_volume", "density")):
         if a in sec and b in sec:
@@ -710,6 +710,6 @@ def resolved_value(config: Config, key: str) -> float:
 
 def config_to_yaml(config: Config, header: str = "") -> str:
     """The config as YAML text, every value written with its unit (re-loadable)."""
-    from .records import dump_yaml
+    from kappa.io.records import dump_yaml
 
     return dump_yaml(config.data, header)

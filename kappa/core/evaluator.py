@@ -13,13 +13,13 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import quadrature as _q
-from .constants import hbar, k_B
-from .errors import ConfigError
-from .kernels import callaway_integrals, callaway_integrals_free
-from .material import Material
-from .quadrature import X_CUT, block_rule, rules
-from .scattering import NPOW, Scattering
+from kappa.core import quadrature as _q
+from kappa.core.constants import hbar, k_B
+from kappa.core.kernels import callaway_integrals, callaway_integrals_free
+from kappa.core.material import Material
+from kappa.core.quadrature import X_CUT, block_rule, rules
+from kappa.core.scattering import NPOW, Scattering
+from kappa.errors import ConfigError
 
 __all__ = [
     "RateTables",
@@ -200,8 +200,8 @@ def lattice_conductivity(material: Material, scattering: Scattering, T,
 
     Examples
     --------
-    >>> from kappa.material import Material
-    >>> from kappa.scattering import Scattering, Boundary
+    >>> from kappa.core.material import Material
+    >>> from kappa.core.scattering import Scattering, Boundary
     >>> m = Material.averaged(28.0855 * 1.66054e-27, 2.002e-29, 645.0, 6084.0, 0.56)
     >>> k = lattice_conductivity(m, Scattering((Boundary(1e-3),)), [2.0])
     >>> round(float(k[0]), 3)  # boundary-only: (2π²/15) k_B⁴T³L/(ħ³v²)

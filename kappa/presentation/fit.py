@@ -10,9 +10,9 @@ from typing import Any
 
 import numpy as np
 
-from .fit import FitResult
-from .plots import KAPPA_L_LABEL, log_axes, new_figure
-from .predict import Prediction
+from kappa.presentation.style import KAPPA_L_LABEL, log_axes, new_figure
+from kappa.workflows.fit import FitResult
+from kappa.workflows.predict import Prediction
 
 __all__ = ["plot_fit", "add_band"]
 

@@ -11,7 +11,7 @@ import functools
 import math
 import re
 
-from .errors import ConfigError, KappaError
+from kappa.errors import ConfigError, KappaError
 
 __all__ = ["registry", "parse_quantity", "parse_unit", "unit_factor", "format_quantity"]
 
