@@ -1,74 +1,76 @@
 """kappa: lattice thermal conductivity of solids.
 
 Callaway/Debye predictions of the lattice thermal conductivity, the Wiedemann-Franz split of
-measured data into lattice and electronic parts, fits of scattering parameters, and sweeps.
-The functions ``fit``, ``sweep`` and ``spectrum`` live in the modules of the same names
-(``from kappa.workflows.fit import fit``), so that the modules stay reachable as ``kappa.fit`` etc.
+measured data into lattice and electronic parts, fits of scattering parameters, sweeps and
+phonon spectra. Everything inside is SI; configs and tables carry units at the edge.
 Results are model estimates; validate them by measurement before any device's thermal design.
+
+The names below are imported on first use (so that ``import kappa`` and the command line start
+fast); ``from kappa import predict`` works as usual.
 """
 
 from __future__ import annotations
 
-from kappa.core.evaluator import branch_conductivities, lattice_conductivity
-from kappa.core.heat_capacity import heat_capacity
-from kappa.core.material import Branch, Material
-from kappa.core.scattering import Boundary, Normal, PointDefect, Scattering, Umklapp
-from kappa.errors import ConfigError, DataError, KappaError, KappaWarning
-from kappa.io.config import Config, config_from_dict, load_config
-from kappa.io.records import version as _version
-from kappa.workflows.fit import (
-    FitData,
-    FitResult,
-    fit_data,
-    fit_series,
-    prediction_band,
-    read_fit_data,
-)
-from kappa.workflows.measurements import Measurements, measurements_from_arrays, read_measurements
-from kappa.workflows.predict import Prediction, compare, predict
-from kappa.workflows.spectrum import Spectrum
-from kappa.workflows.split import BipolarCheck, SplitResult, split, split_measurements
-from kappa.workflows.sweep import Axis, SweepResult, parse_vary
+import importlib
 
-__version__ = _version()
+#: Public name → module that defines it.
+_PUBLIC = {
+    "Branch": "kappa.core.material",
+    "BranchSpec": "kappa.core.material",
+    "Material": "kappa.core.material",
+    "MaterialSpec": "kappa.core.material",
+    "Model": "kappa.core.model",
+    "Scattering": "kappa.core.scattering",
+    "REGISTRY": "kappa.core.mechanisms",
+    "Umklapp": "kappa.core.mechanisms",
+    "Boundary": "kappa.core.mechanisms",
+    "PointDefect": "kappa.core.mechanisms",
+    "Normal": "kappa.core.mechanisms",
+    "conductivity": "kappa.core.evaluator",
+    "lattice_conductivity": "kappa.core.evaluator",
+    "branch_conductivities": "kappa.core.evaluator",
+    "heat_capacity": "kappa.core.heat_capacity",
+    "Config": "kappa.io.config",
+    "load_config": "kappa.io.config",
+    "config_from_dict": "kappa.io.config",
+    "predict": "kappa.workflows.predict",
+    "compare": "kappa.workflows.predict",
+    "Prediction": "kappa.workflows.predict",
+    "sweep": "kappa.workflows.sweep",
+    "SweepResult": "kappa.workflows.sweep",
+    "spectrum": "kappa.workflows.spectrum",
+    "Spectrum": "kappa.workflows.spectrum",
+    "fit": "kappa.workflows.fitting",
+    "fit_series": "kappa.workflows.fitting",
+    "fit_data": "kappa.workflows.fitting",
+    "FitData": "kappa.workflows.fitting",
+    "FitResult": "kappa.workflows.fitting",
+    "SeriesSample": "kappa.workflows.fitting",
+    "prediction_band": "kappa.workflows.fitting",
+    "read_fit_data": "kappa.io.fitfiles",
+    "split": "kappa.workflows.split",
+    "SplitResult": "kappa.workflows.split",
+    "read_measurements": "kappa.workflows.measurements",
+    "KappaError": "kappa.errors",
+    "ConfigError": "kappa.errors",
+    "DataError": "kappa.errors",
+    "KappaWarning": "kappa.errors",
+}
 
-__all__ = [
-    "__version__",
-    "Branch",
-    "Material",
-    "Scattering",
-    "Umklapp",
-    "Boundary",
-    "PointDefect",
-    "Normal",
-    "lattice_conductivity",
-    "branch_conductivities",
-    "heat_capacity",
-    "Config",
-    "load_config",
-    "config_from_dict",
-    "predict",
-    "compare",
-    "Prediction",
-    "FitData",
-    "FitResult",
-    "fit_data",
-    "read_fit_data",
-    "fit_series",
-    "prediction_band",
-    "Axis",
-    "SweepResult",
-    "parse_vary",
-    "Spectrum",
-    "KappaError",
-    "ConfigError",
-    "DataError",
-    "KappaWarning",
-    "split",
-    "split_measurements",
-    "SplitResult",
-    "BipolarCheck",
-    "Measurements",
-    "read_measurements",
-    "measurements_from_arrays",
-]
+__all__ = ["__version__", *_PUBLIC]
+
+
+def __getattr__(name: str):
+    if name == "__version__":
+        from kappa.io.records import version
+
+        return version()
+    if name in _PUBLIC:
+        value = getattr(importlib.import_module(_PUBLIC[name]), name)
+        globals()[name] = value
+        return value
+    raise AttributeError(f"module 'kappa' has no attribute {name!r}")
+
+
+def __dir__() -> list[str]:
+    return sorted(__all__)

@@ -32,11 +32,19 @@ class KappaError(Exception):
         self.key = key
         self.value = None if value is _NO_VALUE else value
         self.allowed = allowed
+        self.has_value = value is not _NO_VALUE
         if value is _NO_VALUE:
             message = f"{key}: {allowed}" if allowed else key
         else:
             message = f"{key} = {_show(value)}: {allowed}" if allowed else f"{key} = {_show(value)}"
         super().__init__(message)
+
+
+    def renamed(self, key: str) -> KappaError:
+        """The same error naming ``key`` instead (e.g. a library argument as a CLI option)."""
+        if self.has_value:
+            return type(self)(key, self.value, self.allowed)
+        return type(self)(key, allowed=self.allowed)
 
 
 class ConfigError(KappaError, ValueError):

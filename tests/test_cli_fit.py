@@ -11,7 +11,7 @@ import yaml
 from typer.testing import CliRunner
 
 from kappa.cli.main import app
-from kappa.core.evaluator import lattice_conductivity
+from kappa.core.evaluator import conductivity
 from kappa.io.config import config_from_dict, load_config
 
 runner = CliRunner()
@@ -28,9 +28,9 @@ T = np.round(np.geomspace(20.0, 800.0, 20), 2)
 
 def _data(tmp_path, name="k.csv", gruneisen=1.1, grain=3e-6, noise=0.03, err=True, seed=1,
           kappa=None, temps=T):
-    cfg = config_from_dict(MODEL).with_values({"material.gruneisen": gruneisen,
+    cfg = config_from_dict(MODEL).model.with_values({"material.gruneisen": gruneisen,
                                                "scattering.boundary.grain_size": grain})
-    k = lattice_conductivity(cfg.material, cfg.scattering, temps)
+    k = conductivity(cfg, temps)
     k = k * (1 + noise * np.random.default_rng(seed).standard_normal(temps.size))
     if kappa is not None:
         k = kappa
@@ -93,11 +93,11 @@ def test_fit_writes_outputs_and_round_trips_through_predict(tmp_path):
 
     # fitted.yaml holds the fitted values and reproduces the fitted curve
     fitted = load_config(out / "fitted.yaml")
-    assert fitted.value("material.gruneisen") == pytest.approx(g, rel=1e-6)
+    assert fitted.model.value("material.gruneisen") == pytest.approx(g, rel=1e-6)
     head, rows = _read(out / "residuals.csv")
     col = head.index("kappa_L_fit [W/(m K)]")
     k_fit = np.array([float(row[col]) for row in rows])
-    np.testing.assert_allclose(lattice_conductivity(fitted.material, fitted.scattering, T),
+    np.testing.assert_allclose(conductivity(fitted.model, T),
                                k_fit, rtol=1e-6)
     pred = tmp_path / "pred"
     r = runner.invoke(app, ["predict", str(out / "fitted.yaml"), "-o", str(pred)])
@@ -105,7 +105,7 @@ def test_fit_writes_outputs_and_round_trips_through_predict(tmp_path):
     head, rows = _read(pred / "kappa_L.csv")
     Tp = np.array([float(row[0]) for row in rows])
     kp = np.array([float(row[1]) for row in rows])
-    np.testing.assert_allclose(kp, lattice_conductivity(fitted.material, fitted.scattering, Tp),
+    np.testing.assert_allclose(kp, conductivity(fitted.model, Tp),
                                rtol=1e-6)
 
     # --band reads fit.json beside fitted.yaml
@@ -162,7 +162,7 @@ def test_series(tmp_path):
     assert found[("scattering.boundary.grain_size", "B")] == pytest.approx(200.0, rel=0.15)
     assert found[("material.gruneisen", "shared")] == pytest.approx(1.1, rel=0.05)
     b = load_config(out / "samples" / "B" / "fitted.yaml")
-    assert b.value("scattering.boundary.grain_size") == pytest.approx(
+    assert b.model.value("scattering.boundary.grain_size") == pytest.approx(
         found[("scattering.boundary.grain_size", "B")] * 1e-9, rel=1e-9)
     r = runner.invoke(app, ["predict", str(out / "samples" / "B" / "fitted.yaml"), "--band",
                             "--draws", "50", "-o", str(tmp_path / "band-b")])
@@ -193,7 +193,7 @@ def _bad_cases(tmp_path):
         ([c, str(unsorted), *g], "strictly increasing"),
         ([c, d], "--free"),
         (["--series", d, c, d], "--series"),
-        ([c, d, "--free", "scattering.normal.ratio"], "scattering.normal is not in the config"),
+        ([c, d, "--free", "scattering.normal.ratio"], "scattering.normal is not in the model"),
     ]
 
 
@@ -267,5 +267,5 @@ def test_free_key_without_effect_is_refused(tmp_path):
     out = tmp_path / "o"
     r = runner.invoke(app, ["fit", str(cfg), str(data), "--free", "scattering.normal.scale",
                             "-o", str(out)])
-    assert r.exit_code == 2 and "has no effect in this config" in r.output
+    assert r.exit_code == 2 and "has no effect in this model" in r.output
     assert not out.exists()

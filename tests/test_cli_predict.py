@@ -131,8 +131,8 @@ BAD_CLI = [
     ("material.gruneisn", 1.0, "did you mean 'gruneisen'"),            # unknown key
     ("scattering.boundary.grain_size", "5 K", "wrong dimension"),      # wrong dimension
     ("scattering.boundary.grain_size", "5 furlongz", "unknown unit"),  # unknown unit
-    ("material.debye_temperature", "0 K", "must be > 0"),              # zero
-    ("material.sound_velocity", "-6 km/s", "must be > 0"),             # negative
+    ("material.debye_temperature", "0 K", "must be >= 0.1"),              # zero
+    ("material.sound_velocity", "-6 km/s", "must be >= 1"),             # negative
     ("scattering.boundary.specularity", 1.0, ">= 0 and < 1"),          # specularity
     ("material.gruneisen", ".nan", "NaN"),                             # NaN
     ("temperature.stop", "50 K", "must be above"),                     # reversed range

@@ -10,7 +10,7 @@ import pytest
 from typer.testing import CliRunner
 
 from kappa.cli.main import app
-from kappa.core.evaluator import lattice_conductivity
+from kappa.core.evaluator import conductivity
 from kappa.io.config import load_config
 from kappa.io.tables import read_table
 
@@ -57,7 +57,7 @@ def test_spectrum_outputs(cfg, tmp_path):
                              "mfp [nm]", "rate_umklapp [1/s]", "rate_boundary [1/s]",
                              "rate_point_defect [1/s]", "rate_normal [1/s]"]
     config = load_config(cfg)
-    ref = lattice_conductivity(config.material, config.scattering, [300.0, 600.0])
+    ref = conductivity(config.model, [300.0, 600.0])
     last_300 = [r for r in rows if r["T [K]"] == "300"][-1]
     assert float(last_300["kappa_cumulative [W/(m K)]"]) == pytest.approx(ref[0], rel=1e-7)
     mfp = read_table(out / "cumulative_mfp.csv")

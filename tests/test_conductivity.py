@@ -9,7 +9,8 @@ from scipy.integrate import quad
 
 from kappa.core.evaluator import lattice_conductivity
 from kappa.core.material import Branch, Material
-from kappa.core.scattering import Boundary, Normal, PointDefect, Scattering, Umklapp
+from kappa.core.mechanisms import Boundary, Normal, PointDefect, Umklapp
+from kappa.core.scattering import Scattering
 from kappa.errors import ConfigError
 
 from .reference import reference_kappa
@@ -142,15 +143,35 @@ def test_specular_boundary_equals_longer_diffuse_boundary():
 def test_per_sample_rules_match_shared_rules():
     # Many samples with distinct upper limits take the kernel that builds rules on the fly;
     # it must give the same numbers as the shared-rule kernel (one temperature at a time).
-    from kappa.core.evaluator import conductivity_from_rates, rate_tables
-
     m = _material(AVG)
     s = _scattering({}, {"L": 1e-6}, {"gamma_m": 1e-3}, {"ratio": 0.5})
     T = np.linspace(3.0, 1900.0, 400)
-    tables = rate_tables(m, s, T)
-    b = m.branches[0]
-    pre = sc.k / (2 * math.pi**2 * b.sound_velocity) * (sc.k * T / sc.hbar) ** 3
-    batch = conductivity_from_rates(b.debye_temperature / T, pre, tables.resistive[0],
-                                    tables.normal[0], T)
+    batch = lattice_conductivity(m, s, T)
     single = np.array([lattice_conductivity(m, s, [t])[0] for t in T])
     np.testing.assert_allclose(batch, single, rtol=1e-12)
+
+
+def test_point_defects_without_boundary_far_below_theta():
+    # Point defects and Umklapp without boundary scattering at θ/(bT) ≈ 450: the Umklapp
+    # coefficient is e^(−450) ≈ 1e-196 of its high-temperature size and the ω²/ω⁴ crossover
+    # sits near x ~ 1e-98. The integral is finite: with w(x) ≈ x² there,
+    # ∫ x²/(a x² + c x⁴) dx = π/(2√(ac)) (closed form, textbook arctangent integral).
+    spec = dict(AVG)
+    m = _material(spec)
+    T = 645.0 / (3 * 450)
+    k = lattice_conductivity(m, Scattering((Umklapp(), PointDefect(1e-3))), [T])[0]
+    assert np.isfinite(k) and k > 0
+    mass, vol, v = spec["mass"], spec["volume"], 6084.0
+    wt = sc.k * T / sc.hbar
+    a = sc.hbar * 0.9**2 / (mass * v**2 * 645.0) * T * math.exp(-450.0) * wt**2
+    c = vol * 1e-3 / (4 * math.pi * v**3) * wt**4
+    pre = sc.k / (2 * math.pi**2 * v) * wt**3
+    assert k == pytest.approx(pre * math.pi / (2 * math.sqrt(a * c)), rel=1e-6)
+
+
+def test_frozen_out_umklapp_without_boundary_is_one_clear_error():
+    # θ/(bT) above ~745: e^(−θ/bT) underflows to zero, nothing limits the long waves and the
+    # integral diverges; the evaluator says so instead of dividing by zero.
+    m = _material(AVG)
+    with pytest.raises(ConfigError, match="diverges"):
+        lattice_conductivity(m, Scattering((Umklapp(), PointDefect(1e-3))), [0.2])

@@ -1,4 +1,4 @@
-"""The fit workflow (kappa.fit): recovery, uncertainties, warnings, series, bands, bad input."""
+"""The fit workflow: recovery, uncertainties, warnings, series, bands, bad input."""
 
 import math
 import warnings
@@ -7,16 +7,16 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from kappa.core.evaluator import lattice_conductivity
+from kappa.core.evaluator import conductivity
 from kappa.errors import ConfigError, DataError, KappaWarning
 from kappa.io.config import config_from_dict, load_config
-from kappa.workflows.fit import (
+from kappa.io.fitfiles import fit_record, parse_free
+from kappa.workflows.fitting import (
+    Covariance,
     SeriesSample,
     fit,
     fit_data,
-    fit_record,
     fit_series,
-    model_values,
     prediction_band,
 )
 
@@ -26,7 +26,7 @@ CONFIGS = Path(__file__).resolve().parents[1] / "configs"
 K_B = 1.380649e-23
 HBAR = 6.62607015e-34 / (2 * math.pi)
 
-# An averaged silicon-like model (θ, v, M̄, V₀ as in DESIGN §3; Γ of natural Si, REFERENCES.md).
+# An averaged silicon-like model (Γ of natural Si: tests/reference_values.py).
 SI_LIKE = {
     "material": {"name": "si-like", "atomic_mass": "28.0855 u",
                  "atomic_volume": "20.02 angstrom**3", "debye_temperature": "645 K",
@@ -48,21 +48,22 @@ def _quiet(func, *args, **kwargs):
 
 
 def _synthetic(noise, seed, true=TRUE, T=T_DATA, base=SI_LIKE):
-    cfg = config_from_dict(base)
+    cfg = config_from_dict(base).model
     truth = cfg.with_values(true)
-    k = lattice_conductivity(truth.material, truth.scattering, T)
+    k = conductivity(truth, T)
     rng = np.random.default_rng(seed)
     return cfg, k * (1.0 + noise * rng.standard_normal(T.size)), k
 
 
-def test_batched_model_matches_lattice_conductivity():
-    cfg = config_from_dict(SI_LIKE)
-    other = cfg.with_values({"material.gruneisen": 1.7})
-    a, b = model_values([(cfg, T_DATA), (other, T_DATA[:7])])
-    np.testing.assert_allclose(a, lattice_conductivity(cfg.material, cfg.scattering, T_DATA),
-                               rtol=1e-12)
-    np.testing.assert_allclose(b, lattice_conductivity(other.material, other.scattering,
-                                                       T_DATA[:7]), rtol=1e-12)
+def test_batched_model_matches_single_models():
+    # a batch of parameter sets (arrays) gives the numbers of each set alone
+    cfg = config_from_dict(SI_LIKE).model
+    gammas = np.array([0.8, 1.7, 2.4])
+    batch = cfg.with_values({"material.gruneisen": gammas})
+    k = conductivity(batch, T_DATA)
+    for i, g in enumerate(gammas):
+        np.testing.assert_allclose(k[i], conductivity(cfg.with_values({"material.gruneisen": g}),
+                                                      T_DATA), rtol=1e-12)
 
 
 def test_recovers_known_parameters_within_reported_errors():
@@ -106,7 +107,8 @@ def test_unweighted_fit_scales_errors_by_the_scatter():
 def _casimir(T, L, v):
     """Boundary-limited Debye conductivity at T ≪ θ: (2π²/15) k_B⁴ T³ L/(ħ³ v²).
 
-    Source: REFERENCES.md (Casimir limit, D), written here independently of kappa's kernels.
+    Source: closed form of the Debye model in the boundary limit (tests/reference_values.py,
+    derived), written here independently of kappa's kernels.
     """
     return 2 * math.pi**2 / 15 * K_B**4 * T**3 * L / (HBAR**3 * v**2)
 
@@ -129,7 +131,7 @@ def test_one_parameter_fit_matches_closed_form_least_squares():
     rng = np.random.default_rng(42)
     kappa = c * 2e-3 * (1 + 0.05 * rng.standard_normal(T.size))
     sigma = 0.05 * c * 2e-3
-    cfg = config_from_dict(CASIMIR_MODEL)
+    cfg = config_from_dict(CASIMIR_MODEL).model
     res, _ = _quiet(fit, cfg, fit_data(T, kappa, sigma), ["scattering.boundary.grain_size"],
                     checks=False)
     L_hat = np.sum(c * kappa / sigma**2) / np.sum(c**2 / sigma**2)
@@ -172,7 +174,7 @@ def test_degenerate_pair_is_flagged():
 def test_bound_hit_is_reported():
     cfg, k, k_true = _synthetic(0.02, seed=2)
     res, msgs = _quiet(fit, cfg, fit_data(T_DATA, k, 0.02 * k_true), ["material.gruneisen"],
-                       bounds={"material.gruneisen": "0.5:0.9"})
+                       bounds={"material.gruneisen": (0.5, 0.9)})
     assert any("at its upper bound" in m for m in msgs)
     assert res.parameter("material.gruneisen").at_bound == "upper"
     assert res.value("material.gruneisen") == pytest.approx(0.9, rel=1e-6)
@@ -197,7 +199,7 @@ def test_unneeded_parameter_and_far_boundary_warn():
                                                      "scattering.boundary.grain_size": 40e-6})
     res, msgs = _quiet(fit, cfg, fit_data(T_DATA, k, 0.01 * k_true),
                        ["material.gruneisen", "scattering.boundary.grain_size"])
-    assert any("× the grain size in the config" in m for m in msgs)
+    assert any("× the grain size in the model" in m for m in msgs)
 
 
 def test_high_temperature_upturn_is_flagged():
@@ -221,14 +223,14 @@ def test_same_seed_same_result_and_multistart_count():
 
 
 def test_series_shared_and_per_sample_parameters():
-    base = config_from_dict(SI_LIKE)
+    base = config_from_dict(SI_LIKE).model
     grains = {"A": 2e-6, "B": 200e-9}
     samples = []
     rng = np.random.default_rng(12)
     for name, L in grains.items():
         truth = base.with_values({"material.gruneisen": 1.1,
                                   "scattering.boundary.grain_size": L})
-        k = lattice_conductivity(truth.material, truth.scattering, T_DATA)
+        k = conductivity(truth, T_DATA)
         noisy = k * (1 + 0.02 * rng.standard_normal(T_DATA.size))
         samples.append(SeriesSample(name, base, fit_data(T_DATA, noisy, 0.02 * k, name=name)))
     res, _ = _quiet(fit_series, samples, shared=["material.gruneisen"],
@@ -240,8 +242,8 @@ def test_series_shared_and_per_sample_parameters():
         p = res.parameter("scattering.boundary.grain_size", name)
         assert abs(p.value - L) < 3 * p.stderr
         sample = next(s for s in res.samples if s.name == name)
-        assert sample.config.value("scattering.boundary.grain_size") == p.value
-        assert sample.config.value("material.gruneisen") == g.value
+        assert sample.model.value("scattering.boundary.grain_size") == p.value
+        assert sample.model.value("material.gruneisen") == g.value
     rec = fit_record(res, "B")
     assert [p["key"] for p in rec["parameters"]] == ["material.gruneisen",
                                                     "scattering.boundary.grain_size"]
@@ -253,13 +255,12 @@ def test_prediction_band_matches_the_covariance():
     c = _casimir(T, 1.0, 6084.0)
     rng = np.random.default_rng(7)
     kappa = c * 2e-3 * (1 + 0.05 * rng.standard_normal(T.size))
-    cfg = config_from_dict(CASIMIR_MODEL)
+    cfg = config_from_dict(CASIMIR_MODEL).model
     res, _ = _quiet(fit, cfg, fit_data(T, kappa, 0.05 * kappa), ["scattering.boundary.grain_size"],
                     checks=False)
-    band = prediction_band(res.config, fit_record(res), T, draws=2000, seed=3)
+    band = prediction_band(res.model, Covariance.from_result(res), T, draws=2000, seed=3)
     s_u = math.sqrt(res.covariance[0, 0])
-    np.testing.assert_allclose(band.kappa_L, lattice_conductivity(
-        res.config.material, res.config.scattering, T), rtol=1e-12)
+    np.testing.assert_allclose(band.kappa_L, conductivity(res.model, T), rtol=1e-12)
     np.testing.assert_allclose(band.low / band.kappa_L, math.exp(-s_u), rtol=0.01)
     np.testing.assert_allclose(band.high / band.kappa_L, math.exp(s_u), rtol=0.01)
 
@@ -268,20 +269,20 @@ def test_per_branch_silicon_fit_reproduces_measured_conductivity():
     """Natural silicon: Glassbrenner & Slack, Phys. Rev. 134, A1058 (1964).
 
     300 K: 148–156 W/(m K) (P, midpoint 152 used); 100 K ≈ 880–950 (M, 915 used);
-    200 K ≈ 260–270 (M, 265); 400 K ≈ 100 (M); 600 K ≈ 62 (M) — as listed in REFERENCES.md.
+    200 K ≈ 260–270 (M, 265); 400 K ≈ 100 (M); 600 K ≈ 62 (M) — as listed in tests/reference_values.py.
     The per-branch model of configs/silicon.yaml (Morelli, Heremans & Slack, PRB 66, 195304
     (2002) branch parameters, natural-isotope Γ = 2.01e-4, normal processes in the branch
     forms) with γ_L, γ_T and the normal-process scale free reproduces the five points within
     10 % (the M values themselves carry ≥ 10 % tolerance); the Grüneisen parameters must come
     out physically plausible (0.3–3, common practice, no source).
     """
-    cfg = load_config(CONFIGS / "silicon.yaml")
+    cfg = load_config(CONFIGS / "silicon.yaml").model
     T = np.array([100.0, 200.0, 300.0, 400.0, 600.0])
     measured = np.array([915.0, 265.0, 152.0, 100.0, 62.0])
     free = ["material.branches.0.gruneisen", "material.branches.1.gruneisen",
             "scattering.normal.scale"]
     res, msgs = _quiet(fit, cfg, fit_data(T, measured), free, starts=3)
-    fitted = lattice_conductivity(res.config.material, res.config.scattering, T)
+    fitted = conductivity(res.model, T)
     np.testing.assert_allclose(fitted, measured, rtol=0.10)
     for key in free[:2]:
         assert 0.3 <= res.value(key) <= 3.0
@@ -295,35 +296,33 @@ def test_per_branch_silicon_fit_reproduces_measured_conductivity():
 def test_bad_data_is_rejected_with_the_column_named():
     with pytest.raises(DataError, match="strictly increasing"):
         fit_data([100.0, 300.0, 200.0], [10.0, 5.0, 6.0])
-    with pytest.raises(DataError, match=r"kappa_L.*<= 0 at 300 K.*--window"):
+    with pytest.raises(DataError, match=r"kappa_L.*<= 0 at 300 K.*window"):
         fit_data([100.0, 200.0, 300.0], [10.0, 5.0, -1.0])
     with pytest.raises(DataError, match="NaN"):
         fit_data([100.0, 200.0, 300.0], [10.0, np.nan, 4.0])
     d = fit_data([100.0, 200.0, 300.0], [10.0, np.nan, 4.0], nan="omit")
     assert d.size == 2 and d.dropped
-    d = fit_data([100.0, 200.0, 300.0], [10.0, 5.0, -1.0], window="50K:250K")
+    d = fit_data([100.0, 200.0, 300.0], [10.0, 5.0, -1.0], window=(50.0, 250.0))
     assert d.size == 2
     with pytest.raises(DataError, match="uncertainties must be > 0"):
         fit_data([100.0, 200.0], [10.0, 5.0], [1.0, 0.0])
 
 
 def test_too_few_points_for_the_free_parameters():
-    cfg = config_from_dict(SI_LIKE)
-    data = fit_data(T_DATA, np.ones(T_DATA.size), window="100K:130K")
-    with pytest.raises(DataError, match=r"--window = 2 points: 2 in data \(window 100 K:130 K\)"
+    cfg = config_from_dict(SI_LIKE).model
+    data = fit_data(T_DATA, np.ones(T_DATA.size), window=(100.0, 130.0))
+    with pytest.raises(DataError, match=r"window = 2 points: 2 in data \(window 100 K:130 K\)"
                        r".*needs at least 4 points"):
         fit(cfg, data, ["material.gruneisen", "scattering.boundary.grain_size"])
 
 
 @pytest.mark.parametrize("free, bounds, message", [
     (["material.grunesen"], None, "did you mean 'gruneisen'"),
-    (["scattering.normal.form"], None, "scattering.normal.form: not a numeric parameter"),
-    (["material.branches.0.gruneisen"], None, "not a numeric key of this config"),
-    (["scattering.normal.ratio"], None, "scattering.normal is not in the config"),
-    (["material.gruneisen"], {"material.gruneisen": "1.5:2"}, "must contain the start value"),
-    (["material.gruneisen"], {"material.gruneisen": "2:1"}, "lower bound must be below"),
-    (["scattering.boundary.grain_size"], {"scattering.boundary.grain_size": "1K:2K"},
-     "wrong dimension"),
+    (["scattering.normal.form"], None, "scattering.normal.form: not a numeric key"),
+    (["material.branches.0.gruneisen"], None, "averaged-branch model"),
+    (["scattering.normal.ratio"], None, "scattering.normal is not in the model"),
+    (["material.gruneisen"], {"material.gruneisen": (1.5, 2.0)}, "must contain the start value"),
+    (["material.gruneisen"], {"material.gruneisen": (2.0, 1.0)}, "lower bound must be below"),
     (["scattering.point_defect.strain_variance"], None, "needs a start value > 0"),
 ])
 def test_bad_free_keys_and_bounds(free, bounds, message):
@@ -332,14 +331,30 @@ def test_bad_free_keys_and_bounds(free, bounds, message):
         fit(cfg, fit_data(T_DATA, k), free, bounds=bounds)
 
 
+def test_free_items_with_units():
+    # the text forms of the command line and series files: KEY=START and KEY=LOW:HIGH
+    model = config_from_dict(SI_LIKE).model
+    keys, starts, bounds = parse_free(model, ["material.gruneisen",
+                                              "scattering.boundary.grain_size=10nm:100um"],
+                                      ["scattering.umklapp.scale=0.1:"])
+    assert keys == ["material.gruneisen", "scattering.boundary.grain_size"] and not starts
+    assert bounds["scattering.boundary.grain_size"] == pytest.approx((1e-8, 1e-4))
+    assert bounds["scattering.umklapp.scale"] == (pytest.approx(0.1), None)
+    with pytest.raises(ConfigError, match="wrong dimension"):
+        parse_free(model, ["scattering.boundary.grain_size=1K:2K"])
+    keys, starts, _ = parse_free(model, ["scattering.boundary.grain_size=1um"])
+    assert starts == {"scattering.boundary.grain_size": pytest.approx(1e-6)}
+
+
 def test_start_for_an_absent_mechanism():
     cfg, k, _ = _synthetic(0.02, seed=1)
     no_boundary = config_from_dict({**SI_LIKE, "scattering": {"point_defect":
-                                                                {"mass_variance": 2.01e-4}}})
-    with pytest.raises(ConfigError, match=r"--free scattering.boundary.grain_size=1um"):
+                                                                {"mass_variance": 2.01e-4}}}).model
+    with pytest.raises(ConfigError, match=r"give a start"):
         fit(no_boundary, fit_data(T_DATA, k), ["scattering.boundary.grain_size"])
     res, _ = _quiet(fit, no_boundary, fit_data(T_DATA, k, 0.02 * k),
-                    ["material.gruneisen", "scattering.boundary.grain_size=1um"])
+                    ["material.gruneisen", "scattering.boundary.grain_size"],
+                    start_values={"scattering.boundary.grain_size": 1e-6})
     assert res.parameter("scattering.boundary.grain_size").start == pytest.approx(1e-6)
     assert res.value("scattering.boundary.grain_size") == pytest.approx(3e-6, rel=0.2)
     assert cfg.scattering.get("boundary").grain_size == 1e-6  # the input config is unchanged
@@ -350,22 +365,21 @@ def test_no_upturn_flag_on_pure_lattice_curves():
     # not read as a bipolar upturn (a regression: an A/T + B trend did flag it).
     from pathlib import Path
 
-    from kappa.io.config import load_config
-    from kappa.workflows.fit import _upturn
+    from kappa.workflows.fitting.diagnostics import upturn
     from kappa.workflows.predict import predict
 
     root = Path(__file__).resolve().parents[1] / "configs"
     for name in ("silicon", "germanium", "lead-telluride", "bismuth-telluride"):
-        cfg = load_config(root / f"{name}.yaml")
-        theta = max(b.debye_temperature for b in cfg.material.branches)
+        model = load_config(root / f"{name}.yaml").model
+        theta = float(model.material.max_debye_temperature)
         T = np.geomspace(40.0, min(800.0, 3 * theta), 25)
-        k = predict(cfg, T).kappa_L
-        assert _upturn(fit_data(T, k, 0.03 * k)) == [], name
+        k = predict(model, T, warnings=False).kappa_L
+        assert upturn(fit_data(T, k, 0.03 * k)) == [], name
 
 
 def test_fit_data_column_names_and_units(tmp_path):
     # spelled-out names and lab units are accepted (unit conversions: SI definitions)
-    from kappa.workflows.fit import read_fit_data
+    from kappa.io.fitfiles import read_fit_data
 
     p = tmp_path / "alt.csv"
     p.write_text("temperature [degC],kappa_lattice [mW/(cm K)],kappa_L_sigma [mW/(cm K)]\n"
@@ -373,4 +387,4 @@ def test_fit_data_column_names_and_units(tmp_path):
     d = read_fit_data(p)
     assert d.temperature == pytest.approx([300.0, 400.0, 500.0])
     assert d.kappa_L == pytest.approx([10.0, 6.0, 4.0])  # 1 mW/(cm K) = 0.1 W/(m K)
-    assert d.sigma == pytest.approx([0.3, 0.2, 0.1])
+    assert d.uncertainty == pytest.approx([0.3, 0.2, 0.1])

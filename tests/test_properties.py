@@ -7,7 +7,8 @@ from scipy import constants as sc
 
 from kappa.core.evaluator import lattice_conductivity
 from kappa.core.material import Branch, Material
-from kappa.core.scattering import Boundary, Normal, PointDefect, Scattering, Umklapp
+from kappa.core.mechanisms import Boundary, Normal, PointDefect, Umklapp
+from kappa.core.scattering import Scattering
 
 U = sc.atomic_mass
 

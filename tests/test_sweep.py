@@ -10,17 +10,22 @@ import pytest
 from scipy import constants as sc
 from scipy.integrate import quad
 
-from kappa.core.evaluator import lattice_conductivity
+from kappa.core.evaluator import conductivity
 from kappa.errors import ConfigError, KappaWarning
 from kappa.io.config import config_from_dict
-from kappa.workflows.sweep import (
-    Axis,
-    column_names,
-    grid_points,
-    parse_temperatures,
-    parse_vary,
-    sweep,
-)
+from kappa.io.grids import parse_temperatures
+from kappa.io.grids import parse_vary as _parse_vary
+from kappa.io.tables import axis_columns as column_names
+from kappa.workflows.sweep import Axis, grid_points, sweep
+
+
+def _model(data):
+    return config_from_dict(data).model
+
+
+def parse_vary(spec, model=None):
+    """Parse a grid for the averaged test model unless another model is given."""
+    return _parse_vary(model if model is not None else _model(AVERAGED), spec)
 
 RTOL_IDENTITY = 1e-12  # same formulas and kernel: agreement to rounding
 RTOL_QUADRATURE = 1e-6  # DESIGN §5 accuracy target of the fixed rule against adaptive quadrature
@@ -52,13 +57,13 @@ DERIVED = {  # Debye temperature derived from the velocity: sweeping the velocit
 
 
 def _check_identity(data: dict, specs: list[str], T) -> tuple:
-    cfg = config_from_dict(data)
-    axes = [parse_vary(s) for s in specs]
-    result = sweep(cfg, axes, T)
+    model = _model(data)
+    axes = [parse_vary(s, model) for s in specs]
+    result = sweep(model, axes, T)
     assert result.kappa_L.shape == (*[a.values.size for a in axes], len(T))
     for idx in itertools.product(*[range(a.values.size) for a in axes]):
-        c = cfg.with_values({a.key: a.values[i] for a, i in zip(axes, idx, strict=True)})
-        expected = lattice_conductivity(c.material, c.scattering, T)
+        c = model.with_values({a.key: a.values[i] for a, i in zip(axes, idx, strict=True)})
+        expected = conductivity(c, T)
         np.testing.assert_allclose(result.kappa_L[idx], expected, rtol=RTOL_IDENTITY)
     return result
 
@@ -89,30 +94,30 @@ def test_sweep_equals_lattice_conductivity_per_branch(specs):
 def test_derived_key_is_evaluated_per_config():
     result = _check_identity(DERIVED, ["material.sound_velocity=2km/s:4km/s:3",
                                        "scattering.boundary.grain_size=50nm,1um"], [100.0, 300.0])
-    assert result.config_level == ("material.sound_velocity",)
     # the derived Debye temperature follows the velocity: θ = (ħ/k_B)(6π²/V₀)^(1/3) v
     # (Anderson, J. Phys. Chem. Solids 24, 909 (1963)) — so κ_L is not that of a fixed θ
-    fixed = config_from_dict({**DERIVED, "material": {**DERIVED["material"],
-                                                      "debye_temperature": "300 K"}})
+    fixed = _model({**DERIVED, "material": {**DERIVED["material"], "debye_temperature": "300 K"}})
     c = fixed.with_values({"material.sound_velocity": 2000.0,
                            "scattering.boundary.grain_size": 50e-9})
-    other = lattice_conductivity(c.material, c.scattering, [100.0, 300.0])
+    other = conductivity(c, [100.0, 300.0])
     assert not np.allclose(result.kappa_L[0, 0], other, rtol=1e-3)
 
 
 def test_reference_and_ratio():
     cfg = config_from_dict(AVERAGED)
     axes = [parse_vary("scattering.boundary.grain_size=1um,100nm")]
-    result = sweep(cfg, axes)  # temperatures from the config section
+    result = sweep(cfg.model, axes, cfg.temperature)
     np.testing.assert_allclose(result.temperature, [80.0, 300.0, 900.0])
-    ref = lattice_conductivity(cfg.material, cfg.scattering, result.temperature)
+    ref = conductivity(cfg.model, result.temperature)
     np.testing.assert_allclose(result.reference, ref, rtol=1e-14)
     # the config's own grain size is 1 um: ratio 1 there; smaller grains lower κ_L
     np.testing.assert_allclose(result.ratio[0], 1.0, rtol=1e-12)
     assert np.all(result.ratio[1] < 1.0)
-    cols = dict(result.long_form())
-    assert list(cols) == ["grain_size [nm]", "T [K]", "kappa_L [W/(m K)]", "kappa_L_ratio [1]"]
-    np.testing.assert_allclose(cols["grain_size [nm]"], [1000, 1000, 1000, 100, 100, 100])
+    cols = result.long_form()
+    assert list(cols) == ["scattering.boundary.grain_size", "temperature", "kappa_L",
+                          "kappa_L_ratio"]
+    np.testing.assert_allclose(cols["scattering.boundary.grain_size"],
+                               [1e-6, 1e-6, 1e-6, 1e-7, 1e-7, 1e-7])
 
 
 def _kappa_quad(T, L, gamma_m, *, M, V, theta, v, gruneisen, b=3.0):
@@ -136,11 +141,11 @@ def _kappa_quad(T, L, gamma_m, *, M, V, theta, v, gruneisen, b=3.0):
 def test_two_key_sweep_against_independent_quadrature():
     data = {**AVERAGED, "scattering": {"boundary": {"grain_size": "1 um"},
                                        "point_defect": {"mass_variance": 0}}}
-    cfg = config_from_dict(data)
-    axes = [parse_vary("scattering.boundary.grain_size=20nm,300nm,5um"),
-            parse_vary("scattering.point_defect.mass_variance=0,1e-3,3e-2")]
+    model = _model(data)
+    axes = [parse_vary("scattering.boundary.grain_size=20nm,300nm,5um", model),
+            parse_vary("scattering.point_defect.mass_variance=0,1e-3,3e-2", model)]
     T = [50.0, 300.0, 800.0]
-    result = sweep(cfg, axes, T)
+    result = sweep(model, axes, T)
     u = sc.physical_constants["atomic mass constant"][0]
     params = dict(M=28.0855 * u, V=20.02e-30, theta=645.0, v=6084.0, gruneisen=0.56)
     for i, L in enumerate([20e-9, 300e-9, 5e-6]):
@@ -160,8 +165,8 @@ def test_parse_vary_ranges_and_units():
     c = parse_vary("material.gruneisen=2,1, 0.5")
     np.testing.assert_allclose(c.values, [2, 1, 0.5])
     assert column_names([a, c]) == ["grain_size [nm]", "gruneisen [1]"]
-    d = parse_vary("material.branches.0.gruneisen=1,2")
-    e = parse_vary("material.branches.1.gruneisen=1,2")
+    d = parse_vary("material.branches.0.gruneisen=1,2", _model(PER_BRANCH))
+    e = parse_vary("material.branches.1.gruneisen=1,2", _model(PER_BRANCH))
     assert column_names([d, e]) == ["material.branches.0.gruneisen [1]",
                                     "material.branches.1.gruneisen [1]"]
     assert grid_points([a, c], 5) == 60
@@ -170,9 +175,9 @@ def test_parse_vary_ranges_and_units():
 
 @pytest.mark.parametrize("spec, message", [
     ("scattering.boundary.grain_siz=1nm:2nm:3", "did you mean 'grain_size'"),
-    ("scattering.normal.form=1,2", "not a numeric parameter"),
-    ("material.gruneisen=1:2:1", "N must be a whole number >= 2"),
-    ("scattering.boundary.grain_size=0nm:1um:3:log", "must be > 0 nm"),
+    ("scattering.normal.form=1,2", "not a numeric key"),
+    ("material.gruneisen=1:2:1", "N must be a whole number from 2"),
+    ("scattering.boundary.grain_size=0nm:1um:3:log", r"must be > 0 and <= 1e\+10 nm"),
     ("scattering.umklapp.scale=0:1:3:log", "a log range needs both ends > 0"),
     ("scattering.boundary.grain_size=1K:2K:3", "wrong dimension"),
     ("scattering.boundary.specularity=0:1:3", "must be >= 0 and < 1"),
@@ -186,32 +191,35 @@ def test_parse_vary_rejects(spec, message):
 
 
 def test_sweep_rejects():
-    cfg = config_from_dict(AVERAGED)
+    model = _model(AVERAGED)
     a = parse_vary("material.gruneisen=1,2")
     with pytest.raises(ConfigError, match="varied only once"):
-        sweep(cfg, [a, parse_vary("material.gruneisen=3,4")], [300.0])
-    with pytest.raises(ConfigError, match="does not apply to this averaged model"):
-        sweep(cfg, [parse_vary("material.branches.0.gruneisen=1,2")], [300.0])
-    nt = config_from_dict({k: v for k, v in AVERAGED.items() if k != "temperature"})
-    with pytest.raises(ConfigError, match="--at"):
-        sweep(nt, [a])
-    with pytest.raises(ConfigError, match="diverges"):  # no boundary, Umklapp switched off
-        sweep(config_from_dict({**AVERAGED, "scattering": {}}),
-              [parse_vary("scattering.umklapp.scale=0,1")], [300.0])
+        sweep(model, [a, parse_vary("material.gruneisen=3,4")], [300.0])
+    with pytest.raises(ConfigError, match="averaged-branch model"):
+        sweep(model, [parse_vary("material.branches.0.gruneisen=1,2", _model(PER_BRANCH))],
+              [300.0])
+    with pytest.raises(ConfigError, match="temperature"):
+        sweep(model, [a], [])
+    with pytest.raises(ConfigError, match="umklapp.scale=0.*diverges"):  # Umklapp off, no boundary
+        bare = _model({**AVERAGED, "scattering": {}})
+        sweep(bare, [parse_vary("scattering.umklapp.scale=0,1", bare)], [300.0])
+    with pytest.raises(ConfigError, match="allow_large"):
+        sweep(model, {"material.gruneisen": np.linspace(1, 2, 100_000),
+                      "scattering.umklapp.scale": np.linspace(1, 2, 1001)}, [300.0])
 
 
 def test_sweep_warns_about_dubious_values():
-    cfg = config_from_dict(AVERAGED)
+    model = _model(AVERAGED)
     with pytest.warns(KappaWarning, match="below 1 nm"):
-        sweep(cfg, [parse_vary("scattering.boundary.grain_size=0.5nm,10nm")], [300.0])
+        sweep(model, [parse_vary("scattering.boundary.grain_size=0.5nm,10nm")], [300.0])
     with pytest.warns(KappaWarning, match="exceed 3θ"):
-        sweep(cfg, [parse_vary("material.gruneisen=1,2")], [3000.0])
+        sweep(model, [parse_vary("material.gruneisen=1,2")], [3000.0])
 
 
 def test_more_scattering_never_raises_kappa():
     """DESIGN §6 property on a grid: κ_L falls with mass disorder and rises with grain size."""
-    cfg = config_from_dict(AVERAGED)
-    r = sweep(cfg, [parse_vary("scattering.boundary.grain_size=5nm:50um:9:log"),
+    model = _model(AVERAGED)
+    r = sweep(model, [parse_vary("scattering.boundary.grain_size=5nm:50um:9:log"),
                     parse_vary("scattering.point_defect.mass_variance=0:0.1:6")], [50.0, 500.0])
     assert np.all(np.diff(r.kappa_L, axis=0) > 0)
     assert np.all(np.diff(r.kappa_L, axis=1) < 0)
@@ -225,27 +233,24 @@ def test_axis_is_plain_dataclass():
 def test_many_debye_temperatures_use_the_same_rules():
     """A swept Debye temperature × many temperatures: hundreds of distinct upper limits, each
     sample must be given the rule of its own θ/T."""
-    cfg = config_from_dict(AVERAGED)
+    model = _model(AVERAGED)
     T = np.linspace(50.0, 900.0, 30)
     axes = [parse_vary("material.debye_temperature=300K:700K:12")]  # 360 upper limits
-    r = sweep(cfg, axes, T)
+    r = sweep(model, axes, T)
     for i in (0, 5, 11):
-        c = cfg.with_values({"material.debye_temperature": axes[0].values[i]})
-        np.testing.assert_allclose(r.kappa_L[i], lattice_conductivity(c.material, c.scattering, T),
-                                   rtol=1e-12)
+        c = model.with_values({"material.debye_temperature": axes[0].values[i]})
+        np.testing.assert_allclose(r.kappa_L[i], conductivity(c, T), rtol=1e-12)
 
 
 def test_sweep_from_plain_si_arrays():
-    # the notebook form {key: SI values} gives the same numbers as lattice_conductivity
+    # the notebook form {key: SI values} gives the same numbers as the evaluator point by point
     import kappa
-    from kappa.workflows.sweep import Axis, sweep
 
-    cfg = config_from_dict(AVERAGED)
+    model = _model(AVERAGED)
     L = np.array([50e-9, 2e-6])
-    r = sweep(cfg, {"scattering.boundary.grain_size": L}, [300.0])
+    r = kappa.sweep(model, {"scattering.boundary.grain_size": L}, [300.0])
     for i, li in enumerate(L):
-        c = cfg.with_values({"scattering.boundary.grain_size": li})
-        assert r.kappa_L[i, 0] == pytest.approx(
-            kappa.lattice_conductivity(c.material, c.scattering, [300.0])[0], rel=1e-12)
+        c = model.with_values({"scattering.boundary.grain_size": li})
+        assert r.kappa_L[i, 0] == pytest.approx(kappa.conductivity(c, [300.0])[0], rel=1e-12)
     with pytest.raises(ConfigError, match="must be >= 0 and < 1"):
-        Axis.of("scattering.boundary.specularity", [0.5, 1.0])
+        sweep(model, {"scattering.boundary.specularity": [0.5, 1.0]}, [300.0])

@@ -24,46 +24,41 @@ def check_command(
     set_: Annotated[list[str] | None, typer.Option("--set", help="Override KEY=VALUE "
                                                    "(repeatable).")] = None,
 ) -> None:
-    from kappa.io.config import load_config, numeric_keys, resolved_value
-    from kappa.io.units import registry
+    from kappa.core.checks import model_warnings
+    from kappa.core.limits import cahill_minimum
+    from kappa.io.config import derived_lines, load_config
 
     cfg = load_config(config, set_ or [])
-    ureg = registry()
-    m = cfg.material
+    model = cfg.model
+    m = model.material
     typer.echo(f"{config}: valid")
     typer.echo(f"material: {m.name or '(no name)'}; "
                f"{'per-branch' if m.per_branch else 'averaged single-branch'} model")
-    typer.echo("numeric keys (value as used, SI converted to the display unit):")
-    for key, p in numeric_keys(cfg).items():
-        try:
-            v = resolved_value(cfg, key)
-        except Exception:  # a key absent from this config (e.g. longitudinal_velocity)
+    typer.echo("numeric keys (value as used, in the display unit):")
+    for key, p in model.keys().items():
+        parts = key.split(".")
+        if parts[0] == "scattering" and model.scattering.get(parts[1]) is None:
             continue
-        mech = key.split(".")[1] if key.startswith("scattering.") else None
-        if mech and cfg.scattering.get(mech) is None:
-            continue
-        normal = cfg.scattering.get("normal")
-        if normal is not None and key == ("scattering.normal.ratio" if normal.form == "branch"
-                                          else "scattering.normal.scale"):
-            continue  # the parameter of the other normal-process form
-        unit = p.display or p.unit
-        shown = ureg.Quantity(v, p.unit).to(unit).magnitude if unit != p.unit else v
-        typer.echo(f"  {key} = {shown:.6g}{'' if unit == '1' else ' ' + unit}")
-    active = [mech.key for mech in cfg.scattering.resistive]
+        if model.unused(key):
+            continue  # e.g. the parameter of the other normal-process form
+        typer.echo(f"  {key} = {p.format(model.value(key), 6)}")
+    active = [mech.title for mech in model.mechanisms.resistive]
     typer.echo("resistive scattering: " + (", ".join(active) or "none"))
-    n = cfg.scattering.normal
-    typer.echo("normal processes: " + (f"form {n.form}" if n else "off"))
-    for key, text in cfg.derived.items():
+    normal = [mech for mech in model.mechanisms.normal]
+    typer.echo("normal processes: " + (", ".join(f"form {getattr(n, 'form', n.key)}"
+                                                 for n in normal) or "off"))
+    if any(getattr(n, "form", "") == "ratio" for n in normal):
+        typer.echo("note: the ratio form ties the normal-process rate to the Umklapp rate, "
+                   "factor e^(−θ/bT) included, so normal processes freeze out at low "
+                   "temperature with Umklapp")
+    for key, text in derived_lines(model):
         typer.echo(f"derived: {key} = {text}")
     if m.per_branch:
         typer.echo(f"derived: Debye mean of the branch velocities = {m.mean_velocity:.6g} m/s")
-    from kappa.core.limits import cahill_minimum
-
     velocities = [b.sound_velocity for b in m.branches for _ in range(
         max(1, round(b.count)) if m.per_branch else 1)]
-    if "longitudinal_velocity" in cfg.data.get("material", {}):
-        velocities = [resolved_value(cfg, "material.longitudinal_velocity"),
-                      resolved_value(cfg, "material.transverse_velocity")]
+    if model.spec.longitudinal_velocity is not None:
+        velocities = [model.spec.longitudinal_velocity, model.spec.transverse_velocity]
     kmin = cahill_minimum([300.0, 1e5], m.number_density, velocities)
     typer.echo(f"estimate: Cahill–Watson–Pohl minimum κ_min = {kmin[0]:.3g} W/(m K) at 300 K, "
                f"{kmin[1]:.3g} W/(m K) high-T limit (from the volume per atom and velocities)")
@@ -72,6 +67,8 @@ def check_command(
         typer.echo(f"temperature: {T.size} points, {T.min():.6g} K to {T.max():.6g} K")
     else:
         typer.echo("temperature: (none; 'kappa predict' needs a temperature section)")
+    for message in model_warnings(model):
+        common.echo_err(f"warning: {message}")
 
 
 def register(app: typer.Typer) -> None:

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import functools
 import sys
+import time
 import warnings
 from collections.abc import Callable, Sequence
 from typing import Any, TypeVar
@@ -100,3 +101,29 @@ def _cell(v: Any) -> str:
     if f != f:
         return "-"
     return f"{f:.4g}"
+
+
+class ProgressBar:
+    """A simple progress bar on stderr, drawn only on a terminal and only after one second."""
+
+    def __init__(self, label: str = "") -> None:
+        self.label = label
+        self.start = time.perf_counter()
+        self.shown = False
+        self.tty = sys.stderr.isatty()
+
+    def __call__(self, done: int, total: int) -> None:
+        if not self.tty or total <= 0:
+            return
+        elapsed = time.perf_counter() - self.start
+        if elapsed < 1.0 and not self.shown:
+            return
+        self.shown = True
+        frac = done / total
+        width = 30
+        fill = int(round(frac * width))
+        sys.stderr.write(f"\r{self.label} [{'#' * fill}{'.' * (width - fill)}] {100 * frac:5.1f} % "
+                         f"{elapsed:6.1f} s")
+        if done >= total:
+            sys.stderr.write("\n")
+        sys.stderr.flush()

@@ -44,20 +44,6 @@ Examples:
 """
 
 
-def _bounds(items: list[str]) -> dict[str, str]:
-    from kappa.errors import ConfigError
-
-    out: dict[str, str] = {}
-    for item in items:
-        key, _, text = item.partition("=")
-        key, text = key.strip(), text.strip()
-        if not key or not text:
-            raise ConfigError("--bounds", item, "must be KEY=LOW:HIGH, e.g. "
-                              "scattering.boundary.grain_size=10nm:1mm")
-        out[key] = text
-    return out
-
-
 def fit_command(
     config: Annotated[Path | None, typer.Argument(help="YAML config (the model to fit).",
                                                   exists=True, dir_okay=False)] = None,
@@ -75,7 +61,7 @@ def fit_command(
                                                 dir_okay=False)] = None,
     starts: Annotated[int, typer.Option("--starts", min=1, max=50,
                                         help="Number of starts.")] = 5,
-    seed: Annotated[int, typer.Option("--seed", help="Seed of the start draws.")] = 0,
+    seed: Annotated[int, typer.Option("--seed", min=0, help="Seed of the start draws.")] = 0,
     nan: Annotated[str, typer.Option("--nan", help="NaN rows in the data: raise or omit.")
                    ] = "raise",
     set_: Annotated[list[str] | None, typer.Option("--set", help="Override a config value "
@@ -87,24 +73,25 @@ def fit_command(
                      ] = False,
 ) -> None:
     from kappa.errors import ConfigError
+    from kappa.io.fitfiles import parse_free, read_fit_data, read_series
     from kappa.io.outdir import check_out, default_out
-    from kappa.workflows.fit import fit, fit_curves, fit_series, parse_window, read_fit_data
+    from kappa.io.units import parse_window
+    from kappa.workflows.fitting import fit_series
 
     if nan not in ("raise", "omit"):
         raise ConfigError("--nan", nan, "raise or omit")
-    bounds_map = _bounds(bounds or [])
     if series is not None:
         if config is not None or data is not None or free or window or set_:
             raise ConfigError("--series", str(series), "give either a series file, or CONFIG "
                               "DATA with --free (and --window, --set); not both")
-        samples, shared, per, sbounds, inputs = _load_series(series, nan)
-        for key, text in bounds_map.items():
-            sbounds[key] = text
+        loaded = read_series(series, nan=nan, extra_bounds=bounds or [])
+        samples, shared, per = loaded.samples, loaded.shared, loaded.per_sample
+        starts_, bounds_ = loaded.start_values, loaded.bounds
+        configs = loaded.configs
+        inputs = list(loaded.files)
         out = out or default_out(series, "fit")
-        check_out(out, force=force, inputs=inputs)
-        result = fit_series(samples, shared, per, bounds=sbounds, starts=starts, seed=seed)
-        meta = {"series": str(series), "shared": shared, "per_sample": per,
-                "bounds": sbounds}
+        meta = {"series": str(series), "shared": list(shared), "per_sample": list(per),
+                "bounds": {k: list(v) for k, v in bounds_.items()}}
     else:
         if config is None or data is None:
             raise ConfigError("CONFIG DATA", allowed="give a config and a data file (or "
@@ -113,34 +100,42 @@ def fit_command(
             raise ConfigError("--free", allowed="name at least one key to fit, e.g. --free "
                               "material.gruneisen (see 'kappa check CONFIG' for the keys)")
         from kappa.io.config import load_config
+        from kappa.workflows.fitting import SeriesSample
 
         cfg = load_config(config, set_ or [])
-        fdata = read_fit_data(data, window=parse_window(window), nan=nan)
+        shared, starts_, bounds_ = parse_free(cfg.model, free, bounds or [])
+        per = []
+        fdata = read_fit_data(data, window=parse_window(window, "--window"), nan=nan)
+        samples = [SeriesSample(fdata.name, cfg.model, fdata)]
+        configs = {fdata.name: cfg}
         inputs = [config, data]
         out = out or default_out(data, "fit")
-        check_out(out, force=force, inputs=inputs)
-        result = fit(cfg, fdata, free, bounds=bounds_map, starts=starts, seed=seed)
         meta = {"config": str(config), "data": str(data), "overrides": list(set_ or []),
-                "free": list(free), "bounds": bounds_map, "window": window}
-    _write(result, fit_curves(result), out, force, inputs, meta, series is not None)
+                "free": list(free), "bounds": {k: list(v) for k, v in bounds_.items()},
+                "window": window}
+    check_out(out, force=force, inputs=inputs)
+    try:
+        result = fit_series(samples, shared, per, start_values=starts_, bounds=bounds_,
+                            starts=starts, seed=seed)
+    except ConfigError as exc:
+        raise exc.renamed(_flag(exc.key)) from None
+    from kappa.presentation.fit import fit_curves
+
+    _write(result, fit_curves(result), out, force, inputs, meta, series is not None, configs)
     _report(result, out, series is not None)
 
 
-def _load_series(path: Path, nan: str):
-    import yaml
-
-    from kappa.errors import ConfigError
-    from kappa.workflows.fit import series_from_dict
-
-    try:
-        data = yaml.safe_load(path.read_text(encoding="utf-8"))
-    except yaml.YAMLError as exc:
-        mark = getattr(exc, "problem_mark", None)
-        where = f" at line {mark.line + 1}" if mark else ""
-        raise ConfigError(str(path), allowed=f"not valid YAML{where}") from None
-    loaded = series_from_dict(data, path.parent, nan=nan)
-    return (list(loaded.samples), list(loaded.shared), list(loaded.per_sample),
-            dict(loaded.bounds), [path, *loaded.files])
+def _flag(key: str) -> str:
+    """Library argument names in an error → the command's options."""
+    for arg, flag in (("bounds[", "--bounds "), ("start_values[", "--free "),
+                      ("starts", "--starts"), ("seed", "--seed"), ("window", "--window"),
+                      ("free", "--free"), ("per_sample", "series.per_sample"),
+                      ("shared", "series.shared")):
+        if arg.endswith("[") and key.startswith(arg):
+            return flag + key[len(arg):].rstrip("]")
+        if key == arg:
+            return flag
+    return key
 
 
 def _param_rows(result, with_sample: bool):
@@ -167,13 +162,13 @@ def _shown_err(p) -> float:
 
 def _residual_columns(s, weighted: bool):
     cols = [("T [K]", s.data.temperature), ("kappa_L [W/(m K)]", s.data.kappa_L)]
-    if s.data.sigma is not None:
-        cols.append(("kappa_L_err [W/(m K)]", s.data.sigma))
+    if s.data.uncertainty is not None:
+        cols.append(("kappa_L_err [W/(m K)]", s.data.uncertainty))
     cols += [("kappa_L_fit [W/(m K)]", s.kappa_L_fit),
-             ("residual [W/(m K)]", -s.residual),
+             ("residual [W/(m K)]", s.residual),
              ("relative_residual [1]", s.data.kappa_L / s.kappa_L_fit - 1.0)]
     if weighted:
-        cols.append(("normalized_residual [1]", -s.normalized))
+        cols.append(("normalized_residual [1]", s.normalized))
     return cols
 
 
@@ -211,13 +206,13 @@ def _header(result, extra: str, sample: str | None) -> str:
             "reads it).\nComments of the original config are not carried over.")
 
 
-def _write(result, curves, out, force, inputs, meta, is_series: bool) -> None:
+def _write(result, curves, out, force, inputs, meta, is_series: bool, configs) -> None:
+    from kappa.io.fitfiles import fit_record, fitted_config_data
     from kappa.io.outdir import output_folder
     from kappa.io.records import dump_yaml, run_record, write_json
     from kappa.io.tables import write_table
     from kappa.presentation.fit import plot_fit
     from kappa.presentation.style import save
-    from kappa.workflows.fit import fit_record, fitted_yaml_data
 
     rows = _param_rows(result, is_series)
     labels = [p.label for p in result.parameters]
@@ -232,7 +227,7 @@ def _write(result, curves, out, force, inputs, meta, is_series: bool) -> None:
     record = run_record(
         "fit", **meta,
         weighting=result.weighting,
-        uncertainty_columns={s.name: s.data.sigma_source for s in result.samples},
+        uncertainty_columns={s.name: s.data.uncertainty_source for s in result.samples},
         windows={s.name: s.data.window for s in result.samples},
         dropped=dropped,
         statistics=_stats(result),
@@ -241,7 +236,6 @@ def _write(result, curves, out, force, inputs, meta, is_series: bool) -> None:
         warnings=list(result.warnings),
         outputs=outputs,
         citations=result.citations,
-        caution=common.CAUTION,
     )
     with output_folder(out, force=force, inputs=inputs) as tmp:
         cols = [(name, [r[name] for r in rows]) for name in rows[0]]
@@ -254,9 +248,12 @@ def _write(result, curves, out, force, inputs, meta, is_series: bool) -> None:
         for s in result.samples:
             folder = tmp / "samples" / s.name if is_series else tmp
             folder.mkdir(parents=True, exist_ok=True)
-            extra = f"config {s.start_config.source}, data {s.data.source}"
+            cfg = configs[s.name]
+            extra = f"config {cfg.source}, data {s.data.source}"
+            sample = s.name if is_series else None
+            data = fitted_config_data(cfg, s.model, result, sample, s.data.temperature)
             (folder / "fitted.yaml").write_text(
-                dump_yaml(fitted_yaml_data(s, result), _header(result, extra, s.name)), encoding="utf-8")
+                dump_yaml(data, _header(result, extra, sample)), encoding="utf-8")
             write_json(folder / "fit.json", fit_record(result, s.name if is_series else None))
             write_table(folder / "residuals.csv", _residual_columns(s, result.weighted))
 

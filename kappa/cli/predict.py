@@ -23,7 +23,7 @@ Examples:
 
   kappa predict my.yaml --compare scattering.boundary.grain_size=1um,100nm,20nm -o grains
 
-  kappa predict fit1/fitted.yaml --band --draws 400 --seed 1 -o fit1-band
+  kappa predict fit1/fitted.yaml --band --draws 400 --seed 0 -o fit1-band
 
 --band (for a fitted.yaml written by 'kappa fit') draws parameter sets from the fit's
 covariance (fit.json beside the config) and adds the 16th/84th percentiles of κ_L as
@@ -48,36 +48,45 @@ def predict_command(
                                        "fit.json beside a fitted.yaml.")] = False,
     draws: Annotated[int, typer.Option("--draws", min=10, help="Parameter draws for --band.")
                      ] = 400,
-    seed: Annotated[int, typer.Option("--seed", help="Seed of the --band draws.")] = 1,
+    seed: Annotated[int, typer.Option("--seed", min=0, help="Seed of the --band draws.")] = 0,
 ) -> None:
-    from kappa.io.config import load_config
+    from kappa.io.config import derived_lines, load_config
+    from kappa.io.grids import parse_key_values
     from kappa.io.outdir import check_out, default_out, output_folder
-    from kappa.io.records import run_record, write_json
+    from kappa.io.records import model_summary, run_record, write_json
     from kappa.io.tables import write_table
-    from kappa.workflows.predict import compare, model_summary, predict
+    from kappa.workflows.predict import compare, predict
 
     cfg = load_config(config, set_ or [])
+    T = cfg.require_temperature()
     out = out or default_out(config, "predict")
     check_out(out, force=force, inputs=[config])
-    prediction = predict(cfg)
-    overlays = compare(cfg, compare_) if compare_ else []
+    model = cfg.model
+    prediction = predict(model, T)
+    overlays = []
+    if compare_:
+        key, values, texts = parse_key_values(model, compare_, "--compare")
+        leaf = key.split(".")[-1]
+        overlays = [(f"{leaf}={text}", p)
+                    for text, p in zip(texts, compare(model, key, values, T), strict=True)]
     columns = [("T [K]", prediction.temperature), ("kappa_L [W/(m K)]", prediction.kappa_L)]
     fit_band = None
     if band:
-        from kappa.workflows.fit import prediction_band, read_fit_record
+        from kappa.io.fitfiles import read_fit_record
+        from kappa.workflows.fitting import prediction_band
 
-        fit_band = prediction_band(cfg, read_fit_record(config.parent / "fit.json"),
-                                   prediction.temperature, draws, seed)
+        fit_band = prediction_band(model, read_fit_record(config.parent / "fit.json"), T,
+                                   draws=draws, seed=seed)
         columns += [("kappa_L_low [W/(m K)]", fit_band.low),
                     ("kappa_L_high [W/(m K)]", fit_band.high)]
     if overlays:
         columns += [(f"kappa_L({label}) [W/(m K)]", p.kappa_L) for label, p in overlays]
     for key, k in prediction.without.items():
         columns.append((f"kappa_L_without_{key} [W/(m K)]", k))
-    if cfg.material.per_branch:
+    if model.material.per_branch:
         for label, k in prediction.branches.items():
             columns.append((f"kappa_L_{label} [W/(m K)]", k))
-    columns.append(("C_V [J/(mol K)]", prediction.heat_capacity))
+    columns.append(("C_V [J/(mol K)]", prediction.molar_heat_capacity))
 
     from kappa.presentation.style import plot_prediction, save
 
@@ -91,6 +100,7 @@ def predict_command(
         from kappa.presentation.fit import add_band
 
         add_band(fig.axes[0], fit_band.temperature, fit_band.low, fit_band.high)
+    derived = dict(derived_lines(model))
     record = run_record(
         "predict",
         config=str(config),
@@ -102,18 +112,17 @@ def predict_command(
             "keys": list(fit_band.keys),
             "columns": "kappa_L_low/kappa_L_high: 16th/84th percentiles over the draws"},
         resolved_inputs=cfg.data,
-        derived=cfg.derived,
-        model_si=model_summary(cfg),
+        derived=derived,
+        model_si=model_summary(model),
         outputs=["kappa_L.csv", "kappa_L.png", "kappa_L.svg", "run.json"],
         citations=prediction.citations,
-        caution=common.CAUTION,
     )
     with output_folder(out, force=force, inputs=[config]) as tmp:
         write_table(tmp / "kappa_L.csv", columns)
         save(fig, tmp / "kappa_L")
         write_json(tmp / "run.json", record)
 
-    for key, text in cfg.derived.items():
+    for key, text in derived.items():
         common.echo_err(f"derived: {key} = {text}")
     headers = [h for h, _ in columns if not h.startswith("C_V")][:6]
     rows = list(zip(*[v for h, v in columns if h in headers], strict=True))

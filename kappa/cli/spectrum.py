@@ -43,29 +43,24 @@ def spectrum_command(
     force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")] = False,
 ) -> None:
     from kappa.errors import ConfigError
-    from kappa.io.config import load_config
+    from kappa.io.config import derived_lines, load_config
+    from kappa.io.grids import parse_temperatures
     from kappa.io.outdir import check_out, default_out, output_folder
-    from kappa.io.records import run_record, write_json
+    from kappa.io.records import model_summary, run_record, write_json
     from kappa.io.tables import write_table
-    from kappa.workflows.predict import model_summary
-    from kappa.workflows.spectrum import mfp_table, spectrum, spectrum_table
-    from kappa.workflows.sweep import parse_temperatures
+    from kappa.workflows.spectrum import MAX_TEMPERATURES, spectrum
 
     cfg = load_config(config, set_ or [])
+    model = cfg.model
     if not at:
         raise ConfigError("--at", allowed="missing; give the temperature(s), e.g. --at 300K")
     T = parse_temperatures(at)
-    if T.size > 20:
-        raise ConfigError("--at", f"{T.size} temperatures", "at most 20 temperatures")
-    theta = max(b.debye_temperature for b in cfg.material.branches)
-    if T.max() > 3.0 * theta:
-        from kappa.errors import warn
-
-        warn(f"temperatures up to {T.max():.4g} K exceed 3θ ({3 * theta:.4g} K); the "
-             "Debye/Callaway model is not meant for that range")
+    if T.size > MAX_TEMPERATURES:
+        raise ConfigError("--at", f"{T.size} temperatures",
+                          f"at most {MAX_TEMPERATURES} temperatures")
     out = out or default_out(config, "spectrum")
     check_out(out, force=force, inputs=[config])
-    sp = spectrum(cfg, T)
+    sp = spectrum(model, T)
 
     from kappa.presentation.style import save
     from kappa.presentation.sweep import plot_cumulative, plot_rates, plot_spectral
@@ -74,6 +69,8 @@ def spectrum_command(
                "rates": plot_rates(sp)}
     outputs = ["spectrum.csv", "cumulative_mfp.csv",
                *[f"{n}.{ext}" for n in figures for ext in ("png", "svg")], "run.json"]
+    derived = dict(derived_lines(model))
+    has_normal = bool(model.mechanisms.normal)
     record = run_record(
         "spectrum",
         config=str(config),
@@ -86,14 +83,13 @@ def spectrum_command(
         callaway_beta_s=dict(zip(sp.branches, sp.beta.T, strict=True)),
         relaxation_time=("Callaway effective time tau_eff = tau_c (1 + beta/tau_N), "
                          "beta = I2/I3; equal to tau_c without normal processes"),
-        note=NORMAL_NOTE if cfg.scattering.normal is not None else None,
+        note=NORMAL_NOTE if has_normal else None,
         frequency="nu = omega/(2 pi)",
         resolved_inputs=cfg.data,
-        derived=cfg.derived,
-        model_si=model_summary(cfg),
+        derived=derived,
+        model_si=model_summary(model),
         outputs=outputs,
         citations=sp.citations,
-        caution=common.CAUTION,
     )
     with output_folder(out, force=force, inputs=[config]) as tmp:
         write_table(tmp / "spectrum.csv", spectrum_table(sp))
@@ -102,7 +98,7 @@ def spectrum_command(
             save(fig, tmp / name)
         write_json(tmp / "run.json", record)
 
-    for key, text in cfg.derived.items():
+    for key, text in derived.items():
         common.echo_err(f"derived: {key} = {text}")
     rows = [[T[t], sp.kappa_L[t], *sp.branch_kappa[t], sp.mfp50[t] * 1e9, sp.mfp80[t] * 1e9]
             for t in range(T.size)]
@@ -116,9 +112,42 @@ def spectrum_command(
         typer.echo(f"half the heat at {T[t]:.4g} K is carried by phonons with mean free path "
                    f"above {_length(sp.mfp50[t])}, and 20 % by phonons with mean free path above "
                    f"{_length(sp.mfp80[t])}")
-    if cfg.scattering.normal is not None:
+    if has_normal:
         common.echo_err(NORMAL_NOTE)
     typer.echo(f"wrote {out}/" + ", ".join(outputs))
+
+
+def mfp_table(result) -> list[tuple[str, object]]:
+    """Long-form columns ``T [K]``, ``mfp [nm]``, ``kappa_cumulative [W/(m K)]``.
+
+    Per temperature: mean free paths log-spaced between those where K(Λ) reaches 10⁻⁴ and
+    1 − 10⁻⁴ of κ_L, then the largest Λ of any phonon (where K equals κ_L).
+    """
+    import numpy as np
+
+    Ts = [np.full(g.size, t) for t, g in zip(result.temperature, result.mfp_nodes, strict=True)]
+    return [("T [K]", np.concatenate(Ts)), ("mfp [nm]", np.concatenate(result.mfp_nodes) * 1e9),
+            ("kappa_cumulative [W/(m K)]", np.concatenate(result.mfp_cumulative))]
+
+
+def spectrum_table(result) -> list[tuple[str, object]]:
+    """Long-form columns of ``spectrum.csv`` (one row per temperature, branch and frequency)."""
+    import numpy as np
+
+    nT, nB, N = result.frequency.shape
+    Ts = np.broadcast_to(result.temperature[:, None, None], (nT, nB, N)).ravel()
+    labels = np.broadcast_to(np.array(result.branches, dtype=object)[None, :, None],
+                             (nT, nB, N)).ravel()
+    cols: list[tuple[str, object]] = [
+        ("T [K]", Ts), ("branch", labels),
+        ("frequency [THz]", result.frequency.ravel() / 1e12),
+        ("kappa_spectral [W/(m K THz)]", result.spectral.ravel() * 1e12),
+        ("kappa_cumulative [W/(m K)]", result.cumulative.ravel()),
+        ("mfp [nm]", result.mfp.ravel() * 1e9),
+    ]
+    for key, r in result.rates.items():
+        cols.append((f"rate_{key} [1/s]", r.ravel()))
+    return cols
 
 
 NORMAL_NOTE = (

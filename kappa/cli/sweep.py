@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import sys
 import time
 from pathlib import Path
 from typing import Annotated
@@ -40,31 +39,6 @@ Sweeps above 10^8 points need --yes.
 """
 
 
-class _Bar:
-    """A simple progress bar on stderr, drawn only on a terminal and only after one second."""
-
-    def __init__(self) -> None:
-        self.start = time.perf_counter()
-        self.shown = False
-        self.tty = sys.stderr.isatty()
-
-    def __call__(self, done: int, total: int) -> None:
-        if not self.tty or total <= 0:
-            return
-        elapsed = time.perf_counter() - self.start
-        if elapsed < 1.0 and not self.shown:
-            return
-        self.shown = True
-        frac = done / total
-        width = 30
-        fill = int(round(frac * width))
-        sys.stderr.write(f"\rsweep [{'#' * fill}{'.' * (width - fill)}] {100 * frac:5.1f} % "
-                         f"{elapsed:6.1f} s")
-        if done >= total:
-            sys.stderr.write("\n")
-        sys.stderr.flush()
-
-
 def write_csv(path: Path, columns: list[tuple[str, np.ndarray]], block: int = 200_000) -> None:
     """Write numeric columns fast (``%.8g``, NaN as a blank cell), in blocks of rows."""
     headers = [h for h, _ in columns]
@@ -98,22 +72,24 @@ def sweep_command(
     yes: Annotated[bool, typer.Option("--yes", help="Allow sweeps above 10^8 points.")] = False,
 ) -> None:
     from kappa.errors import ConfigError
-    from kappa.io.config import load_config
+    from kappa.io.config import derived_lines, load_config
+    from kappa.io.grids import parse_temperatures, parse_vary
     from kappa.io.outdir import check_out, default_out, output_folder
-    from kappa.io.records import run_record, write_json
-    from kappa.workflows.predict import model_summary
-    from kappa.workflows.sweep import (
-        MAX_POINTS,
-        check_axes,
-        column_names,
-        grid_points,
-        parse_temperatures,
-        parse_vary,
-        sweep,
-    )
+    from kappa.io.records import model_summary, run_record, write_json
+    from kappa.io.tables import axis_columns
+    from kappa.workflows.sweep import MAX_POINTS, check_axes, grid_points, sweep
 
     cfg = load_config(config, set_ or [])
-    axes = check_axes([parse_vary(item) for item in (vary or [])])
+    model = cfg.model
+    if not vary:
+        raise ConfigError("--vary", allowed="missing; give at least one KEY=START:STOP:N[:log], "
+                          "e.g. --vary scattering.boundary.grain_size=10nm:10um:31:log")
+    axes = [parse_vary(model, item) for item in vary]
+    seen = set()
+    for a in axes:
+        if a.key in seen:
+            raise ConfigError(f"--vary {a.key}", allowed="each key may be varied only once")
+        seen.add(a.key)
     if at:
         T = parse_temperatures(at)
     elif cfg.temperature is not None:
@@ -126,18 +102,23 @@ def sweep_command(
         raise ConfigError("--vary", f"{points:,} κ_L points",
                           f"that is more than {MAX_POINTS:,}; add --yes to run it anyway "
                           "(the table needs about 50 bytes per point)")
+    try:
+        axes = list(check_axes(model, axes))
+    except ConfigError as exc:
+        raise exc.renamed(f"--vary {exc.key}" if exc.key in seen else exc.key) from None
     out = out or default_out(config, "sweep")
     check_out(out, force=force, inputs=[config])
 
     t0 = time.perf_counter()
-    result = sweep(cfg, axes, T, progress=_Bar())
+    result = sweep(model, axes, T, progress=common.ProgressBar("sweep"), allow_large=yes)
     elapsed = time.perf_counter() - t0
 
     from kappa.presentation.style import save
     from kappa.presentation.sweep import plot_sweep
 
     fig = plot_sweep(result)
-    names = column_names(axes)
+    names = axis_columns(axes)
+    derived = dict(derived_lines(model))
     record = run_record(
         "sweep",
         config=str(config),
@@ -148,22 +129,24 @@ def sweep_command(
               for a, n in zip(axes, names, strict=True)],
         temperatures_K=T,
         points=points,
-        config_level_keys=list(result.config_level),
         reference_kappa_L=result.reference,
         seconds=round(elapsed, 3),
         resolved_inputs=cfg.data,
-        derived=cfg.derived,
-        model_si=model_summary(cfg),
+        derived=derived,
+        model_si=model_summary(model),
         outputs=["sweep.csv", "sweep.png", "sweep.svg", "run.json"],
         citations=result.citations,
-        caution=common.CAUTION,
     )
+    long = result.long_form()
+    columns = [(n, a.parameter.shown(long[a.key])) for a, n in zip(axes, names, strict=True)]
+    columns += [("T [K]", long["temperature"]), ("kappa_L [W/(m K)]", long["kappa_L"]),
+                ("kappa_L_ratio [1]", long["kappa_L_ratio"])]
     with output_folder(out, force=force, inputs=[config]) as tmp:
-        write_csv(tmp / "sweep.csv", result.long_form())
+        write_csv(tmp / "sweep.csv", columns)
         save(fig, tmp / "sweep")
         write_json(tmp / "run.json", record)
 
-    for key, text in cfg.derived.items():
+    for key, text in derived.items():
         common.echo_err(f"derived: {key} = {text}")
     _summary(result, names, elapsed)
     typer.echo(f"wrote {out}/sweep.csv, sweep.png, sweep.svg, run.json")
@@ -177,8 +160,6 @@ def _summary(result, names: list[str], elapsed: float) -> None:
     rate = f" ({k.size / elapsed:.3g} points/s)" if elapsed > 0 else ""
     typer.echo(f"{n_sets} parameter sets x {T.size} temperatures = {k.size} points in "
                f"{elapsed:.2f} s{rate}")
-    if result.config_level:
-        typer.echo("evaluated one config per value of: " + ", ".join(result.config_level))
     rows = []
     for t in pick(T.size, 12):
         kt = k[..., t]

@@ -8,7 +8,9 @@ from kappa.core.constants import N_A, k_B
 from kappa.core.material import Material
 from kappa.core.quadrature import X_CUT, phonon_weight, rule
 
-__all__ = ["debye_function", "heat_capacity"]
+__all__ = ["debye_function", "heat_capacity", "DEBYE_CITATION"]
+
+DEBYE_CITATION = "Debye heat capacity: P. Debye, Ann. Phys. 39, 789 (1912)"
 
 
 def debye_function(x_D) -> np.ndarray:

@@ -1,13 +1,14 @@
 """numba kernels for the Callaway integrals.
 
 For every sample s (one branch at one temperature for one parameter set) the kernel evaluates,
-with the fixed rule of :mod:`kappa.quadrature` for that sample's upper limit,
+with the fixed rule of :mod:`kappa.core.quadrature` for that sample's upper limit,
 
     I₁ = ∫ τ_c w dx,   I₂ = ∫ (τ_c/τ_N) w dx,   I₃ = ∫ (τ_c/(τ_N τ_R)) w dx,
 
 τ_R⁻¹ = Σ_k r_k x^k, τ_N⁻¹ = Σ_k n_k x^k, τ_c⁻¹ = τ_R⁻¹ + τ_N⁻¹ (coefficients already in powers of
 the reduced frequency x, rates in 1/s). The piece [0, x_s] below the rule is added by
-``_small_x``. Users never call these; see :mod:`kappa.conductivity`.
+``_small_x``. A sample whose resistive rate has no x⁰–x² term (I₁ diverges at x → 0) gets
+I₁ = inf, which the evaluator reports. Users never call these; see :mod:`kappa.core.evaluator`.
 """
 
 from __future__ import annotations
@@ -15,22 +16,25 @@ from __future__ import annotations
 import numpy as np
 from numba import njit, prange
 
-__all__ = ["callaway_integrals", "callaway_integrals_free"]
+__all__ = ["callaway_integrals", "callaway_integrals_free", "callaway_integrals_nodes"]
 
 # fastmath flags: reassociation lets the sums vectorise; no 'nnan'/'ninf' so that a NaN from bad
-# input would still show. cache=True: compiled once per machine, then loaded from __pycache__.
+# input would still show. cache=True: compiled once per machine, then loaded from the cache.
+# error_model="numpy": a division by zero gives inf/NaN (which the evaluator reports as an error
+# naming the input) instead of raising inside the compiled code.
 _FAST = {"reassoc", "contract", "arcp", "nsz"}
+_NP = "numpy"
 
 _TAIL_TOL = 1e-10  # stop the small-x blocks when x·f(x) at the block's end is below this × total
 _MAX_BLOCKS = 38  # 38 blocks of 8 decades reach below the smallest double
 
 
-@njit(cache=True, fastmath=_FAST)
+@njit(cache=True, fastmath=_FAST, error_model=_NP)
 def _poly(c, x):  # pragma: no cover - compiled
     return c[0] + x * (c[1] + x * (c[2] + x * (c[3] + x * c[4])))
 
 
-@njit(cache=True, fastmath=_FAST)
+@njit(cache=True, fastmath=_FAST, error_model=_NP)
 def _terms(r, n, x, w):  # pragma: no cover - compiled
     rr = _poly(r, x)
     rn = _poly(n, x)
@@ -38,28 +42,46 @@ def _terms(r, n, x, w):  # pragma: no cover - compiled
     return tc, tc * rn, tc * rn * rr
 
 
-@njit(cache=True)
+@njit(cache=True, error_model=_NP)
+def _small_terms(r, n, x):  # pragma: no cover - compiled
+    """The three integrands τ_c w, τ_c w/τ_N, τ_c w/(τ_N τ_R) with w = x²(1 − x²/12), written so
+    that nothing under- or overflows as x → 0: τ_c w = (1 − x²/12)/(R/x²), where
+    R/x² = c₀/x² + c₁/x + c₂ + c₃x + c₄x² is the total rate over x²."""
+    rr = _poly(r, x)
+    rn = _poly(n, x)
+    inv = 1.0 / x
+    s = (r[2] + n[2]) + x * ((r[3] + n[3]) + x * (r[4] + n[4]))
+    c1 = r[1] + n[1]
+    if c1 > 0.0:
+        s += c1 * inv
+    c0 = r[0] + n[0]
+    if c0 > 0.0:
+        s += c0 * inv * inv
+    tc = (1.0 - x * x / 12.0) / s
+    return tc, tc * rn, tc * rn * rr
+
+
+@njit(cache=True, error_model=_NP)
 def _small_x(r, n, xs, bt, bq, i1, i2, i3):  # pragma: no cover - compiled
     """Add ∫₀^{x_s} to (i1, i2, i3); w(x) = x²(1 − x²/12) holds to double precision there."""
     lo = xs
     for _ in range(_MAX_BLOCKS):
-        w_lo = lo * lo * (1.0 - lo * lo / 12.0)
-        f1, f2, f3 = _terms(r, n, lo, w_lo)
+        f1, f2, f3 = _small_terms(r, n, lo)
         if (lo * f1 <= _TAIL_TOL * i1 and lo * f2 <= _TAIL_TOL * i2
                 and lo * f3 <= _TAIL_TOL * i3):
             break
         for i in range(bt.shape[0]):
             x = lo * bt[i]
-            q = lo * bq[i] * x * x * (1.0 - x * x / 12.0)
-            a, b, c = _terms(r, n, x, q)
-            i1 += a
-            i2 += b
-            i3 += c
+            a, b, c = _small_terms(r, n, x)
+            q = lo * bq[i]
+            i1 += a * q
+            i2 += b * q
+            i3 += c * q
         lo = lo * 1e-8
     return i1, i2, i3
 
 
-@njit(cache=True, parallel=True, fastmath=_FAST)
+@njit(cache=True, parallel=True, fastmath=_FAST, error_model=_NP)
 def callaway_integrals(x, wq, count, x_s, grid, res, nrm, bt, bq, out):  # pragma: no cover
     """Fill ``out[s] = (I₁, I₂, I₃)`` for every sample s.
 
@@ -73,6 +95,11 @@ def callaway_integrals(x, wq, count, x_s, grid, res, nrm, bt, bq, out):  # pragm
         r = res[s]
         nn = nrm[s]
         r0, r1, r2, r3, r4 = r[0], r[1], r[2], r[3], r[4]
+        if not (r0 > 0.0 or r1 > 0.0 or r2 > 0.0):  # no ω⁰–ω² term: I₁ diverges at x → 0
+            out[s, 0] = np.inf
+            out[s, 1] = np.nan
+            out[s, 2] = np.nan
+            continue
         n0, n1, n2, n3, n4 = nn[0], nn[1], nn[2], nn[3], nn[4]
         i1 = 0.0
         i2 = 0.0
@@ -97,7 +124,7 @@ def callaway_integrals(x, wq, count, x_s, grid, res, nrm, bt, bq, out):  # pragm
         out[s, 2] = i3
 
 
-@njit(cache=True, fastmath=_FAST)
+@njit(cache=True, fastmath=_FAST, error_model=_NP)
 def _weight(x):  # pragma: no cover - compiled
     """x⁴eˣ/(eˣ−1)² = x⁴e⁻ˣ/(1−e⁻ˣ)² (x > 0); a series below x = 0.05 (error < 3e-16)."""
     if x < 0.05:
@@ -108,13 +135,13 @@ def _weight(x):  # pragma: no cover - compiled
     return x * x * x * x * em / (d * d)
 
 
-@njit(cache=True, parallel=True, fastmath=_FAST)
+@njit(cache=True, parallel=True, fastmath=_FAST, error_model=_NP)
 def callaway_integrals_free(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q, x_switch,
                             eps_low, lin_width, bt, bq, out):  # pragma: no cover - compiled
     """As :func:`callaway_integrals`, but builds each sample's rule on the fly.
 
     Used when nearly every sample has its own upper limit (no rule to share). The rule is the
-    one of :func:`kappa.quadrature.rule`: ``log_t, log_q`` are the log-panel nodes and weights
+    one of :func:`kappa.core.quadrature.rule`: ``log_t, log_q`` are the log-panel nodes and weights
     relative to x_m (x = x_m·t, dx = x_m·q), ``log_w`` the phonon weight at x_switch·t (the
     common case x_m = x_switch), ``lin_t, lin_q`` Gauss–Legendre nodes and weights on [−1, 1]
     for the linear panels.
@@ -123,6 +150,11 @@ def callaway_integrals_free(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q, 
     for s in prange(n_samples):
         r = res[s]
         nn = nrm[s]
+        if not (r[0] > 0.0 or r[1] > 0.0 or r[2] > 0.0):  # I₁ diverges at x → 0
+            out[s, 0] = np.inf
+            out[s, 1] = np.nan
+            out[s, 2] = np.nan
+            continue
         top = x_top[s]
         x_m = min(top, x_switch)
         i1 = 0.0
@@ -149,6 +181,44 @@ def callaway_integrals_free(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q, 
                     i2 += a2
                     i3 += a3
         i1, i2, i3 = _small_x(r, nn, x_m * eps_low, bt, bq, i1, i2, i3)
+        out[s, 0] = i1
+        out[s, 1] = i2
+        out[s, 2] = i3
+
+
+@njit(cache=True, parallel=True, fastmath=_FAST, error_model=_NP)
+def callaway_integrals_nodes(x, wq, count, x_s, grid, res, nrm, res_nodes, nrm_nodes, res_low,
+                             nrm_low, bt, bq, out):  # pragma: no cover - compiled
+    """As :func:`callaway_integrals`, with rates that are not polynomials in x.
+
+    ``res_nodes``, ``nrm_nodes`` (S, M): the non-polynomial part of each sample's rates [1/s]
+    at the nodes of its rule (added to the polynomials ``res``, ``nrm``); ``res_low``,
+    ``nrm_low`` (S, 5): that part's polynomial limit as x → 0, used below the rule.
+    """
+    n_samples = grid.shape[0]
+    for s in prange(n_samples):
+        g = grid[s]
+        r = res[s]
+        nn = nrm[s]
+        r_low = r + res_low[s]
+        n_low = nn + nrm_low[s]
+        if not (r_low[0] > 0.0 or r_low[1] > 0.0 or r_low[2] > 0.0):  # diverges at x → 0
+            out[s, 0] = np.inf
+            out[s, 1] = np.nan
+            out[s, 2] = np.nan
+            continue
+        i1 = 0.0
+        i2 = 0.0
+        i3 = 0.0
+        for i in range(count[g]):
+            xi = x[g, i]
+            rr = _poly(r, xi) + res_nodes[s, i]
+            rn = _poly(nn, xi) + nrm_nodes[s, i]
+            tc = wq[g, i] / (rr + rn)
+            i1 += tc
+            i2 += tc * rn
+            i3 += tc * rn * rr
+        i1, i2, i3 = _small_x(r_low, n_low, x_s[g], bt, bq, i1, i2, i3)
         out[s, 0] = i1
         out[s, 1] = i2
         out[s, 2] = i3

@@ -1,30 +1,45 @@
-"""Material parameters of the Debye/Callaway model and quantities derived from them.
+"""Material parameters of the Debye/Callaway model: what the user gives and what the model uses.
 
 A material is one or more acoustic branches. The single averaged-branch Debye model is one
 branch of ``count`` 3 (polarization ``"average"``); the per-branch model is one longitudinal
 branch (count 1) and one transverse entry of count 2 (two degenerate transverse branches), each
 with its own Debye temperature, sound velocity and Grüneisen parameter. Everything is SI.
+
+:class:`MaterialSpec` holds the values as given (some optional: the Debye temperature may come
+from the sound velocity, the mean mass from a composition, the volume per atom from a density);
+:func:`resolve_material` is the one function that derives the rest and returns the
+:class:`Material` the model uses, with a record of every derived value. Numeric fields may be
+numpy arrays (a batch of parameter sets); every formula here broadcasts.
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 
-from kappa.core.constants import hbar, k_B
+from kappa.core.constants import hbar, k_B, u
+from kappa.core.parameters import Parameter
 from kappa.errors import ConfigError
 
 __all__ = [
     "Branch",
+    "BranchSpec",
+    "Derived",
     "Material",
+    "MaterialSpec",
+    "MATERIAL_PARAMETERS",
+    "BRANCH_PARAMETERS",
     "POLARIZATIONS",
     "debye_temperature_from_velocity",
     "mean_sound_velocity",
+    "resolve_material",
 ]
 
 POLARIZATIONS = ("longitudinal", "transverse", "average")
+
+_SOLIDS = "common practice, no source: the range of ordinary crystalline solids"
 
 
 def debye_temperature_from_velocity(sound_velocity, atomic_volume):
@@ -58,22 +73,74 @@ def mean_sound_velocity(longitudinal, transverse):
     return ((1.0 / vl**3 + 2.0 / vt**3) / 3.0) ** (-1.0 / 3.0)
 
 
-def _check_positive(key: str, value: float, unit: str) -> None:
-    if not (isinstance(value, (int, float, np.floating)) and math.isfinite(value) and value > 0):
-        raise ConfigError(key, f"{value} {unit}".strip(), f"must be a finite number > 0 {unit}".strip())
+def _p(name, unit, description, *, low=0.0, high=math.inf, low_open=True, **kw) -> Parameter:
+    return Parameter(name, unit, description, low=low, high=high, low_open=low_open, **kw)
+
+
+#: Numeric material keys (``material.NAME``). Allowed ranges keep the numbers computable;
+#: ``typical`` ranges (warnings) are those of ordinary solids.
+MATERIAL_PARAMETERS: dict[str, Parameter] = {p.name: p for p in (
+    _p("atomic_mass", "kg", "mean mass per atom M̄", display="u", scale=u, bare="u",
+       low=0.1 * u, high=1e4 * u, low_open=False, typical=(1.0 * u, 300.0 * u),
+       basis="atomic masses of the elements: 1 u (H) to about 300 u", title="mean atomic mass"),
+    _p("atomic_volume", "m**3", "volume per atom V₀", display="angstrom**3", scale=1e-30,
+       low=1e-32, high=1e-21, low_open=False, typical=(1e-30, 1e-27),
+       basis="volumes per atom of solids: about 5 (diamond) to 120 (Cs) angstrom**3; "
+       "1-1000 angstrom**3 allowed without a warning", title="volume per atom"),
+    _p("density", "kg/m**3", "mass density ρ (with the mean atomic mass: gives atomic_volume)",
+       display="g/cm**3", scale=1e3, low=1.0, high=1e6, low_open=False, typical=(100.0, 3e4),
+       basis="densities of solids: about 0.5 (Li) to 22.6 (Os) g/cm**3"),
+    _p("debye_temperature", "K", "Debye temperature θ", low=0.1, high=1e6, low_open=False,
+       typical=(10.0, 2500.0), basis="Debye temperatures of solids: tens of K (soft, heavy "
+       "compounds) to about 2,200 K (diamond)"),
+    _p("sound_velocity", "m/s", "mean sound velocity v", low=1.0, high=1e6,
+       low_open=False, typical=(300.0, 2e4),
+       basis="sound velocities of solids: a few hundred m/s to about 18 km/s (diamond)"),
+    _p("longitudinal_velocity", "m/s", "longitudinal sound velocity v_L", low=1.0, high=1e6,
+       low_open=False, typical=(300.0, 2e4),
+       basis="sound velocities of solids: a few hundred m/s to about 18 km/s (diamond)"),
+    _p("transverse_velocity", "m/s", "transverse sound velocity v_T", low=1.0, high=1e6,
+       low_open=False, typical=(200.0, 1.5e4),
+       basis="sound velocities of solids: a few hundred m/s to about 13 km/s (diamond)"),
+    _p("gruneisen", "1", "Grüneisen parameter γ", high=100.0, typical=(0.2, 5.0),
+       basis="Grüneisen parameters of solids: mostly 0.5-3 (γ < 0.2 or > 5 are exceptional)",
+       title="Grüneisen parameter"),
+)}
+
+#: Numeric keys of one branch (``material.branches.I.NAME``).
+BRANCH_PARAMETERS: dict[str, Parameter] = {
+    "count": _p("count", "1", "number of branches of this polarization", high=3.0),
+    "debye_temperature": MATERIAL_PARAMETERS["debye_temperature"],
+    "sound_velocity": MATERIAL_PARAMETERS["sound_velocity"],
+    "gruneisen": MATERIAL_PARAMETERS["gruneisen"],
+}
+
+
+@dataclass(frozen=True)
+class Derived:
+    """A value kappa derived from others (reported, never silent).
+
+    ``value`` is SI (a float, or an array for a batch); ``unit`` the unit it is shown in,
+    ``how`` a plain-words account of where it came from.
+    """
+
+    key: str
+    value: object
+    unit: str
+    how: str
 
 
 @dataclass(frozen=True)
 class Branch:
-    """One acoustic branch (or the averaged Debye branch).
+    """One acoustic branch (or the averaged Debye branch), as the model uses it.
 
     Parameters
     ----------
-    debye_temperature : float
+    debye_temperature : float or ndarray
         Debye temperature of the branch θ_j [K]; sets the cutoff x_D = θ_j/T.
-    sound_velocity : float
+    sound_velocity : float or ndarray
         Sound velocity v_j [m/s].
-    gruneisen : float
+    gruneisen : float or ndarray
         Grüneisen parameter γ_j [1].
     count : float
         Number of branches this entry stands for (3 averaged, 1 longitudinal, 2 transverse).
@@ -91,10 +158,8 @@ class Branch:
         self.validate("branch")
 
     def validate(self, prefix: str) -> None:
-        _check_positive(f"{prefix}.debye_temperature", self.debye_temperature, "K")
-        _check_positive(f"{prefix}.sound_velocity", self.sound_velocity, "m/s")
-        _check_positive(f"{prefix}.gruneisen", self.gruneisen, "")
-        _check_positive(f"{prefix}.count", self.count, "")
+        for name in ("debye_temperature", "sound_velocity", "gruneisen", "count"):
+            BRANCH_PARAMETERS[name].check(f"{prefix}.{name}", getattr(self, name))
         if self.polarization not in POLARIZATIONS:
             raise ConfigError(f"{prefix}.polarization", self.polarization,
                               "allowed: " + ", ".join(POLARIZATIONS))
@@ -106,9 +171,9 @@ class Material:
 
     Parameters
     ----------
-    atomic_mass : float
+    atomic_mass : float or ndarray
         Mean mass per atom M̄ [kg].
-    atomic_volume : float
+    atomic_volume : float or ndarray
         Volume per atom V₀ [m³].
     branches : tuple of Branch
         One averaged branch (count 3), or per-branch entries whose counts add up to 3.
@@ -120,11 +185,10 @@ class Material:
     atomic_volume: float
     branches: tuple[Branch, ...]
     name: str = ""
-    derived: dict = field(default_factory=dict, compare=False, repr=False)
 
     def __post_init__(self) -> None:
-        _check_positive("material.atomic_mass", self.atomic_mass, "kg")
-        _check_positive("material.atomic_volume", self.atomic_volume, "m**3")
+        MATERIAL_PARAMETERS["atomic_mass"].check("material.atomic_mass", self.atomic_mass)
+        MATERIAL_PARAMETERS["atomic_volume"].check("material.atomic_volume", self.atomic_volume)
         if not isinstance(self.branches, tuple) or not self.branches:
             raise ConfigError("material.branches", self.branches, "needs at least one branch")
         for i, b in enumerate(self.branches):
@@ -147,12 +211,186 @@ class Material:
         return not (len(self.branches) == 1 and self.branches[0].polarization == "average")
 
     @property
-    def number_density(self) -> float:
+    def number_density(self):
         """Atoms per volume n = 1/V₀ [1/m³]."""
         return 1.0 / self.atomic_volume
 
     @property
-    def mean_velocity(self) -> float:
+    def mean_velocity(self):
         """Debye mean of the branch velocities, Σ(n_j/3)/v_j³ = 1/v_m³ [m/s]."""
         s = sum(b.count / 3.0 / b.sound_velocity**3 for b in self.branches)
         return s ** (-1.0 / 3.0)
+
+    @property
+    def max_debye_temperature(self):
+        """The largest branch Debye temperature [K] (the one the model's range refers to)."""
+        return np.max(np.array([np.max(b.debye_temperature) for b in self.branches]))
+
+    def branch_labels(self) -> tuple[str, ...]:
+        """``("average",)`` or ``("longitudinal", "transverse", ...)`` (numbered if repeated)."""
+        if not self.per_branch:
+            return ("average",)
+        labels, seen = [], {}
+        for b in self.branches:
+            seen[b.polarization] = seen.get(b.polarization, 0) + 1
+            n = seen[b.polarization]
+            labels.append(b.polarization if n == 1 else f"{b.polarization}{n}")
+        return tuple(labels)
+
+
+# --- as given ----------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class BranchSpec:
+    """One branch as given: ``debye_temperature`` may be None (derived from the velocity)."""
+
+    polarization: str
+    sound_velocity: float
+    gruneisen: float
+    count: float | None = None
+    debye_temperature: float | None = None
+
+
+@dataclass(frozen=True)
+class MaterialSpec:
+    """The material as given (SI values; None = not given).
+
+    Either the averaged-branch keys (``sound_velocity`` or ``longitudinal_velocity`` +
+    ``transverse_velocity``, ``gruneisen``, optional ``debye_temperature``) or ``branches``;
+    ``atomic_mass`` or ``composition``; ``atomic_volume`` or ``density``.
+    """
+
+    name: str = ""
+    composition: str | None = None
+    atomic_mass: float | None = None
+    atomic_volume: float | None = None
+    density: float | None = None
+    debye_temperature: float | None = None
+    sound_velocity: float | None = None
+    longitudinal_velocity: float | None = None
+    transverse_velocity: float | None = None
+    gruneisen: float | None = None
+    branches: tuple[BranchSpec, ...] | None = None
+
+    @property
+    def per_branch(self) -> bool:
+        return self.branches is not None
+
+
+def _either(spec: MaterialSpec, a: str, b: str) -> None:
+    if getattr(spec, a) is not None and getattr(spec, b) is not None:
+        raise ConfigError(f"material.{b}", "given", f"give either material.{a} or "
+                          f"material.{b}, not both")
+
+
+def resolve_material(spec: MaterialSpec) -> tuple[Material, list[Derived]]:
+    """Derive what was not given and build the :class:`Material` (the one place that does).
+
+    Derived values: mean atomic mass from ``composition`` (standard atomic weights); volume
+    per atom V₀ = M̄/ρ from ``density``; the Debye mean velocity from v_L and v_T; each Debye
+    temperature not given from its velocity and V₀. Works elementwise on arrays.
+
+    Raises
+    ------
+    ConfigError
+        Missing or conflicting keys, values out of range.
+    """
+    derived: list[Derived] = []
+    _either(spec, "atomic_mass", "composition")
+    _either(spec, "atomic_volume", "density")
+    for name in ("atomic_mass", "atomic_volume", "density", "debye_temperature",
+                 "sound_velocity", "longitudinal_velocity", "transverse_velocity", "gruneisen"):
+        value = getattr(spec, name)
+        if value is not None:
+            MATERIAL_PARAMETERS[name].check(f"material.{name}", value)
+    if spec.atomic_mass is not None:
+        mass = spec.atomic_mass
+    elif spec.composition is not None:
+        from kappa.core.composition import mean_molar_mass
+        from kappa.core.constants import N_A
+        from kappa.errors import KappaError
+
+        try:
+            mass = mean_molar_mass(spec.composition, "material.composition") / N_A
+        except KappaError as exc:
+            raise ConfigError(exc.key, exc.value, exc.allowed) from None
+        derived.append(Derived("material.atomic_mass", mass, "u",
+                               f"mean mass per atom of {spec.composition}, standard atomic "
+                               "weights"))
+    else:
+        raise ConfigError("material.atomic_mass", allowed="missing; the mean mass per atom is "
+                          "required (e.g. '28.0855 u'), or give material.composition")
+    if spec.atomic_volume is not None:
+        volume = spec.atomic_volume
+    elif spec.density is not None:
+        volume = mass / spec.density
+        MATERIAL_PARAMETERS["atomic_volume"].check("material.atomic_volume (from density)",
+                                                   volume)
+        derived.append(Derived("material.atomic_volume", volume, "angstrom**3",
+                               "mean atomic mass / density"))
+    else:
+        raise ConfigError("material.atomic_volume", allowed="missing; the volume per atom is "
+                          "required (e.g. '20.02 angstrom**3'), or give material.density")
+    if spec.branches is not None:
+        clash = [k for k in ("debye_temperature", "sound_velocity", "gruneisen",
+                             "longitudinal_velocity", "transverse_velocity")
+                 if getattr(spec, k) is not None]
+        if clash:
+            raise ConfigError(f"material.{clash[0]}", "given",
+                              "give either the averaged-branch keys (debye_temperature, "
+                              "sound_velocity, gruneisen) or material.branches, not both")
+        branches = tuple(_branch(b, i, volume, derived) for i, b in enumerate(spec.branches))
+        return Material(mass, volume, branches, spec.name), derived
+    if spec.gruneisen is None:
+        raise ConfigError("material.gruneisen", allowed="missing; the Grüneisen parameter is "
+                          "required (or give material.branches)")
+    has_lt = spec.longitudinal_velocity is not None or spec.transverse_velocity is not None
+    if spec.sound_velocity is not None and has_lt:
+        raise ConfigError("material.sound_velocity", "given", "give either sound_velocity or "
+                          "longitudinal_velocity + transverse_velocity, not both")
+    if spec.sound_velocity is not None:
+        v = spec.sound_velocity
+    elif has_lt:
+        for k in ("longitudinal_velocity", "transverse_velocity"):
+            if getattr(spec, k) is None:
+                raise ConfigError(f"material.{k}", allowed="missing; give both "
+                                  "longitudinal_velocity and transverse_velocity")
+        v = mean_sound_velocity(spec.longitudinal_velocity, spec.transverse_velocity)
+        v = float(v) if np.ndim(v) == 0 else v
+        derived.append(Derived("material.sound_velocity", v, "m/s",
+                               "Debye mean of longitudinal and transverse velocities"))
+    else:
+        raise ConfigError("material.sound_velocity", allowed="missing; give sound_velocity (or "
+                          "longitudinal_velocity + transverse_velocity, or branches)")
+    if spec.debye_temperature is not None:
+        theta = spec.debye_temperature
+    else:
+        theta = _float(debye_temperature_from_velocity(v, volume))
+        derived.append(Derived("material.debye_temperature", theta, "K",
+                               "from sound velocity and volume per atom"))
+    return Material.averaged(mass, volume, theta, v, spec.gruneisen, spec.name), derived
+
+
+def _float(x):
+    return float(x) if np.ndim(x) == 0 else x
+
+
+def _branch(b: BranchSpec, i: int, volume, derived: list[Derived]) -> Branch:
+    key = f"material.branches.{i}"
+    if b.polarization not in ("longitudinal", "transverse"):
+        raise ConfigError(f"{key}.polarization", b.polarization,
+                          "allowed: longitudinal, transverse")
+    count = b.count if b.count is not None else (1.0 if b.polarization == "longitudinal"
+                                                 else 2.0)
+    if b.debye_temperature is not None:
+        theta = b.debye_temperature
+    else:
+        BRANCH_PARAMETERS["sound_velocity"].check(f"{key}.sound_velocity", b.sound_velocity)
+        theta = _float(debye_temperature_from_velocity(b.sound_velocity, volume))
+        derived.append(Derived(f"{key}.debye_temperature", theta, "K",
+                               "from the branch's sound velocity and volume per atom"))
+    for name, value in (("sound_velocity", b.sound_velocity), ("gruneisen", b.gruneisen),
+                        ("count", count), ("debye_temperature", theta)):
+        BRANCH_PARAMETERS[name].check(f"{key}.{name}", value)
+    return Branch(theta, b.sound_velocity, b.gruneisen, count, b.polarization)

@@ -1,43 +1,40 @@
-"""Model configs: YAML with units, validation, dotted-path overrides.
+"""Model configs: YAML with units → (model, temperatures, provenance).
 
-A config has three sections (see ``kappa new`` for a commented starter and DEVELOPERS.md for the
-reference of every key)::
+A config has three sections (``kappa new`` writes a commented starter; DEVELOPERS.md lists
+every key)::
 
-    material:     name, atomic_mass, atomic_volume, and either debye_temperature /
-                  sound_velocity (or longitudinal_velocity + transverse_velocity) / gruneisen,
-                  or branches: [{polarization, count, debye_temperature, sound_velocity,
-                  gruneisen}, ...]
-    scattering:   umklapp / boundary / point_defect / normal (parameters declared by each
-                  mechanism in kappa.scattering)
+    material:     name, composition or atomic_mass, atomic_volume or density, and either
+                  debye_temperature / sound_velocity (or longitudinal_velocity +
+                  transverse_velocity) / gruneisen, or branches: [{polarization, count,
+                  debye_temperature, sound_velocity, gruneisen}, ...]
+    scattering:   one section per mechanism of the registry (kappa.core.mechanisms)
     temperature:  {start, stop, points, spacing: linear|log} or {values: [...]}
 
-Values are numbers with units in a string (``645 K``, ``6.08 km/s``, ``200 nm``); a bare number
-is read in the key's default unit (SI, except ``atomic_mass`` in u). Nothing is derived behind
-the user's back: every derived value is listed in :attr:`Config.derived`.
+Values are numbers with units in a string (``645 K``, ``6.08 km/s``, ``200 nm``); a bare
+number is read in the key's default unit (SI, except ``atomic_mass`` in u). The units of every
+numeric key come from its one declaration in the core (:class:`~kappa.core.parameters.
+Parameter`). Nothing is derived behind the user's back: every derived value is in
+``Config.model.derived``.
 """
 
 from __future__ import annotations
 
 import copy
 import difflib
-import math
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
 import numpy as np
-import yaml
 
-from kappa.core.material import (
-    POLARIZATIONS,
-    Branch,
-    Material,
-    debye_temperature_from_velocity,
-    mean_sound_velocity,
-)
-from kappa.core.scattering import REGISTRY, Parameter, Scattering, Umklapp
-from kappa.errors import ConfigError, KappaError, warn
+from kappa.core.evaluator import T_MAX
+from kappa.core.material import BRANCH_PARAMETERS, MATERIAL_PARAMETERS, BranchSpec, MaterialSpec
+from kappa.core.mechanisms import REGISTRY, Umklapp
+from kappa.core.model import Model, split_key
+from kappa.core.parameters import Parameter
+from kappa.core.scattering import Scattering
+from kappa.errors import ConfigError
 from kappa.io.units import format_quantity, parse_quantity
 
 __all__ = [
@@ -48,90 +45,88 @@ __all__ = [
     "apply_overrides",
     "get_value",
     "set_value",
-    "parameter_for",
-    "numeric_keys",
+    "parse_value",
+    "write_values",
+    "derived_lines",
     "config_to_yaml",
-    "check_temperatures",
-    "unused_key",
+    "TEMPERATURE_PARAMETER",
 ]
 
-
-def _q(name, unit, description, *, display=None, positive=True, bare=None, default=None):
-    p = Parameter(name, unit, default, description, low=0.0 if positive else -math.inf,
-                  low_open=positive, display=display)
-    return p, (bare or unit)
-
-
-#: Numeric material keys: (Parameter, unit a bare number is read in).
-MATERIAL_KEYS: dict[str, tuple[Parameter, str]] = {
-    "atomic_mass": _q("atomic_mass", "kg", "mean mass per atom M̄", display="u", bare="u"),
-    "atomic_volume": _q("atomic_volume", "m**3", "volume per atom V₀", display="angstrom**3"),
-    "debye_temperature": _q("debye_temperature", "K", "Debye temperature θ"),
-    "sound_velocity": _q("sound_velocity", "m/s", "mean sound velocity v"),
-    "longitudinal_velocity": _q("longitudinal_velocity", "m/s", "longitudinal velocity v_L"),
-    "transverse_velocity": _q("transverse_velocity", "m/s", "transverse velocity v_T"),
-    "gruneisen": _q("gruneisen", "1", "Grüneisen parameter γ"),
-    "density": _q("density", "kg/m**3", "mass density ρ (with composition or atomic_mass: "
-                  "gives atomic_volume)", display="g/cm**3"),
-}
-BRANCH_KEYS: dict[str, tuple[Parameter, str]] = {
-    "count": _q("count", "1", "number of branches of this polarization"),
-    "debye_temperature": MATERIAL_KEYS["debye_temperature"],
-    "sound_velocity": MATERIAL_KEYS["sound_velocity"],
-    "gruneisen": MATERIAL_KEYS["gruneisen"],
-}
-TEMPERATURE_KEYS: dict[str, tuple[Parameter, str]] = {
-    "start": _q("start", "K", "lowest temperature"),
-    "stop": _q("stop", "K", "highest temperature"),
-}
 TOP_KEYS = ("material", "scattering", "temperature", "notes")
-_BRANCH_ALL = ("polarization", *BRANCH_KEYS)
-_MATERIAL_ALL = ("name", "composition", *MATERIAL_KEYS, "branches")
+_TEXT_MATERIAL = ("name", "composition", "branches")
+_MATERIAL_ALL = ("name", "composition", *MATERIAL_PARAMETERS, "branches")
+_BRANCH_ALL = ("polarization", *BRANCH_PARAMETERS)
 _TEMPERATURE_ALL = ("start", "stop", "points", "spacing", "values")
+_RANGE_KEYS = ("start", "stop", "points", "spacing")
+
+#: Declaration of a temperature value in a config.
+TEMPERATURE_PARAMETER = Parameter("temperature", "K", "temperature", low=0.0, high=T_MAX,
+                                  low_open=True)
 
 
 @dataclass(frozen=True)
 class Config:
-    """A validated config: the model objects plus what they were made from.
+    """A validated config: the model, the temperatures, and what they were made from.
 
     Attributes
     ----------
-    material : Material
-    scattering : Scattering
+    model : Model
+        Material and scattering in SI (derived values in ``model.derived``).
     temperature : ndarray or None
         Temperatures of the ``temperature`` section [K] (None if the section is absent).
     data : dict
         The config as plain data (after overrides), values as written.
     source : str
         File the config came from (or ``"<dict>"``).
-    derived : dict
-        Derived quantities, ``{dotted key: "value unit (how)"}``.
     """
 
-    material: Material
-    scattering: Scattering
+    model: Model
     temperature: np.ndarray | None
     data: dict = field(repr=False)
     source: str = "<dict>"
-    derived: dict = field(default_factory=dict)
 
-    def with_values(self, values: Mapping[str, float]) -> Config:
-        """A new config with numeric keys set to SI values (``{"material.gruneisen": 1.2}``)."""
-        data = self.data
-        for key, value in values.items():
-            p = parameter_for(key)
-            data = set_value(data, key, format_quantity(float(value), p.unit, 17))
-        return config_from_dict(data, self.source, check_physics=False)
+    @property
+    def material(self):
+        """The resolved material of the model."""
+        return self.model.material
 
-    def value(self, key: str) -> float:
-        """The resolved SI value of a numeric key (derived values included)."""
-        return resolved_value(self, key)
+    @property
+    def derived(self) -> dict[str, str]:
+        """Derived values as ``{key: "value unit (how)"}`` (for records and terminals)."""
+        return dict(derived_lines(self.model))
 
     def require_temperature(self) -> np.ndarray:
+        """The temperatures, or a ConfigError saying the section is missing."""
         if self.temperature is None:
             raise ConfigError("temperature", allowed="missing; add e.g. 'temperature: {start: "
                               "10 K, stop: 800 K, points: 80}' to the config")
         return self.temperature
+
+
+def derived_lines(model: Model) -> list[tuple[str, str]]:
+    """``[(key, "value unit (how)"), ...]`` for every derived value of a single model."""
+    from kappa.io.units import convert
+
+    out = []
+    for d in model.derived:
+        if np.ndim(d.value):
+            out.append((d.key, f"varied ({d.how})"))
+            continue
+        value = convert(float(d.value), _si_unit(d.key), d.unit)
+        out.append((d.key, f"{value:.6g} {d.unit} ({d.how})".replace(" 1 (", " (")))
+    return out
+
+
+def _si_unit(key: str) -> str:
+    parts = key.split(".")
+    name = parts[-1]
+    if parts[0] == "material":
+        table = BRANCH_PARAMETERS if len(parts) == 4 else MATERIAL_PARAMETERS
+        if name in table:
+            return table[name].unit
+    if parts[0] == "scattering" and len(parts) == 3 and parts[1] in REGISTRY:
+        return REGISTRY[parts[1]].parameter(name).unit
+    return "1"
 
 
 # --- reading ----------------------------------------------------------------------------------
@@ -147,20 +142,10 @@ def load_config(path: str | Path, overrides: Sequence[str] = ()) -> Config:
     overrides : sequence of str
         ``"dotted.key=value"`` items applied before validation (as ``--set``).
     """
+    from kappa.io.yamlfile import load_yaml
+
     path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise ConfigError(str(path), allowed="config file not found") from None
-    except OSError as exc:
-        raise ConfigError(str(path), allowed=f"cannot read the config ({exc.strerror})") from None
-    try:
-        data = yaml.safe_load(text)
-    except yaml.YAMLError as exc:
-        mark = getattr(exc, "problem_mark", None)
-        where = f" at line {mark.line + 1}, column {mark.column + 1}" if mark else ""
-        problem = getattr(exc, "problem", None) or "syntax error"
-        raise ConfigError(str(path), allowed=f"not valid YAML{where}: {problem}") from None
+    data = load_yaml(path)
     if data is None:
         data = {}
     if not isinstance(data, dict):
@@ -172,6 +157,8 @@ def load_config(path: str | Path, overrides: Sequence[str] = ()) -> Config:
 
 def parse_override(item: str) -> tuple[str, Any]:
     """Split ``"scattering.boundary.grain_size=50nm"`` into key and (YAML-parsed) value."""
+    from kappa.io.yamlfile import load_yaml_text
+
     if "=" not in item:
         raise ConfigError("--set", item, "must be KEY=VALUE, e.g. "
                           "scattering.boundary.grain_size=50nm")
@@ -180,15 +167,12 @@ def parse_override(item: str) -> tuple[str, Any]:
     if not key:
         raise ConfigError("--set", item, "must be KEY=VALUE with a dotted key")
     try:
-        value = yaml.safe_load(text) if text.strip() else None
-    except yaml.YAMLError:
+        value = load_yaml_text(text, f"--set {key}") if text.strip() else None
+    except ConfigError:
         value = text.strip()
     if value is None:
         raise ConfigError(f"--set {key}", text, "needs a value")
     return key, value
-
-
-_RANGE_KEYS = ("start", "stop", "points", "spacing")
 
 
 def apply_overrides(data: dict, overrides: Iterable[str]) -> dict:
@@ -212,17 +196,10 @@ def apply_overrides(data: dict, overrides: Iterable[str]) -> dict:
     return data
 
 
-def _split(key: str) -> list[str]:
-    parts = key.split(".")
-    if any(not p for p in parts):
-        raise ConfigError(key, allowed="not a valid dotted key (e.g. material.gruneisen)")
-    return parts
-
-
 def get_value(data: Mapping, key: str) -> Any:
-    """Value at a dotted key of plain config data (KeyError-free: raises ConfigError)."""
+    """Value at a dotted key of plain config data (raises ConfigError, never KeyError)."""
     node: Any = data
-    for part in _split(key):
+    for part in split_key(key):
         if isinstance(node, list):
             node = node[_index(key, part, node)]
         elif isinstance(node, Mapping) and part in node:
@@ -235,7 +212,7 @@ def get_value(data: Mapping, key: str) -> Any:
 def set_value(data: Mapping, key: str, value: Any) -> dict:
     """A deep copy of ``data`` with the dotted ``key`` set (missing sections are created)."""
     out = copy.deepcopy(dict(data))
-    parts = _split(key)
+    parts = split_key(key)
     _check_path(parts, key)
     node: Any = out
     for i, part in enumerate(parts[:-1]):
@@ -286,7 +263,7 @@ def _check_path(parts: list[str], key: str) -> None:
 def _known(name: str, allowed: Sequence[str], key: str) -> None:
     if name in allowed:
         return
-    close = difflib.get_close_matches(name, allowed, n=1, cutoff=0.6)
+    close = difflib.get_close_matches(str(name), allowed, n=1, cutoff=0.6)
     hint = f"did you mean '{close[0]}'? " if close else ""
     raise ConfigError(key, allowed=f"unknown key; {hint}allowed here: " + ", ".join(allowed))
 
@@ -302,19 +279,25 @@ def _mapping(value: Any, key: str) -> dict:
     return value
 
 
-def _number(spec: tuple[Parameter, str], value: Any, key: str) -> float:
-    p, bare = spec
+def parse_value(p: Parameter, value: Any, key: str) -> float:
+    """A value as written (number or ``"number unit"``) → SI float, range-checked."""
+    bare = p.bare or p.unit
     si = parse_quantity(value, p.unit, key, bare=bare)
-    p.check(key, si, shown=value)
+    try:
+        p.check(key, si, shown=value)
+    except ConfigError as exc:
+        if isinstance(value, (int, float)) and bare not in ("1", ""):
+            raise ConfigError(key, value, f"{exc.allowed} (a bare number is read in {bare}; "
+                              "was a unit left out?)") from None
+        raise
     return si
 
 
 # --- validation -------------------------------------------------------------------------------
 
 
-def config_from_dict(data: Mapping, source: str = "<dict>", *, check_physics: bool = True
-                     ) -> Config:
-    """Validate plain config data and build the model objects.
+def config_from_dict(data: Mapping, source: str = "<dict>") -> Config:
+    """Validate plain config data and build the model.
 
     Parameters
     ----------
@@ -322,8 +305,6 @@ def config_from_dict(data: Mapping, source: str = "<dict>", *, check_physics: bo
         As read from YAML (values as numbers or ``"number unit"`` strings).
     source : str
         Shown in the record.
-    check_physics : bool
-        Issue warnings for dubious-but-legal values (off inside fits and sweeps).
 
     Raises
     ------
@@ -333,116 +314,42 @@ def config_from_dict(data: Mapping, source: str = "<dict>", *, check_physics: bo
     data = copy.deepcopy(dict(data))
     for k in data:
         _known(str(k), TOP_KEYS, str(k))
-    derived: dict[str, str] = {}
-    material = _material(_mapping(data.get("material"), "material"), derived)
-    scattering = _scattering(_mapping(data.get("scattering"), "scattering"), material)
+    spec = _material(_mapping(data.get("material"), "material"))
+    scattering = _scattering(_mapping(data.get("scattering"), "scattering"))
+    model = Model(spec, scattering)
     temps = None
     if data.get("temperature") is not None:
         temps = _temperature(data["temperature"])
-    config = Config(material, scattering, temps, data, source, derived)
-    if check_physics:
-        _check_physics(config)
-    return config
+    return Config(model, temps, data, source)
 
 
-def _material(sec: dict, derived: dict) -> Material:
+def _material(sec: dict) -> MaterialSpec:
     for k in sec:
         _known(k, _MATERIAL_ALL, f"material.{k}")
-    mass, volume = _mass_and_volume(sec, derived)
-    name = str(sec.get("name", "") or "")
-    if "branches" in sec and sec["branches"] is not None:
+    values: dict[str, Any] = {}
+    for name, p in MATERIAL_PARAMETERS.items():
+        if name in sec:
+            values[name] = parse_value(p, sec[name], f"material.{name}")
+    name = sec.get("name", "")
+    composition = sec.get("composition")
+    if composition is not None and (not isinstance(composition, str) or not composition.strip()):
+        raise ConfigError("material.composition", composition,
+                          "must be a chemical formula, e.g. Mg2Si0.4Sn0.6")
+    branches = None
+    if sec.get("branches") is not None:
         clash = [k for k in ("debye_temperature", "sound_velocity", "gruneisen",
                              "longitudinal_velocity", "transverse_velocity") if k in sec]
         if clash:
             raise ConfigError(f"material.{clash[0]}", sec[clash[0]],
                               "give either the averaged-branch keys (debye_temperature, "
                               "sound_velocity, gruneisen) or material.branches, not both")
-        branches = _branches(sec["branches"], volume, derived)
-        return Material(mass, volume, branches, name)
-    if "gruneisen" not in sec:
-        raise ConfigError("material.gruneisen", allowed="missing; the Grüneisen parameter is "
-                          "required (or give material.branches)")
-    gamma = _number(MATERIAL_KEYS["gruneisen"], sec["gruneisen"], "material.gruneisen")
-    has_v = "sound_velocity" in sec
-    has_lt = "longitudinal_velocity" in sec or "transverse_velocity" in sec
-    if has_v and has_lt:
-        raise ConfigError("material.sound_velocity", sec["sound_velocity"],
-                          "give either sound_velocity or longitudinal_velocity + "
-                          "transverse_velocity, not both")
-    if has_v:
-        v = _number(MATERIAL_KEYS["sound_velocity"], sec["sound_velocity"],
-                    "material.sound_velocity")
-    elif has_lt:
-        for k in ("longitudinal_velocity", "transverse_velocity"):
-            if k not in sec:
-                raise ConfigError(f"material.{k}", allowed="missing; give both "
-                                  "longitudinal_velocity and transverse_velocity")
-        vl = _number(MATERIAL_KEYS["longitudinal_velocity"], sec["longitudinal_velocity"],
-                     "material.longitudinal_velocity")
-        vt = _number(MATERIAL_KEYS["transverse_velocity"], sec["transverse_velocity"],
-                     "material.transverse_velocity")
-        v = float(mean_sound_velocity(vl, vt))
-        derived["material.sound_velocity"] = (f"{v:.6g} m/s (Debye mean of longitudinal and "
-                                              "transverse velocities)")
-    else:
-        raise ConfigError("material.sound_velocity", allowed="missing; give sound_velocity (or "
-                          "longitudinal_velocity + transverse_velocity, or branches)")
-    if "debye_temperature" in sec:
-        theta = _number(MATERIAL_KEYS["debye_temperature"], sec["debye_temperature"],
-                        "material.debye_temperature")
-    else:
-        theta = float(debye_temperature_from_velocity(v, volume))
-        derived["material.debye_temperature"] = (f"{theta:.6g} K (from sound velocity and "
-                                                 "volume per atom)")
-    return Material.averaged(mass, volume, theta, v, gamma, name)
+        branches = _branches(sec["branches"])
+    return MaterialSpec(name=str(name or ""),
+                        composition=composition.strip() if composition else None,
+                        branches=branches, **values)
 
 
-def _mass_and_volume(sec: dict, derived: dict) -> tuple[float, float]:
-    """Mean mass per atom [kg] and volume per atom [m³], given or derived (and reported).
-
-    ``composition`` (a formula) gives the mean atomic mass from standard atomic weights;
-    ``density`` with the mean atomic mass gives the volume per atom, V₀ = M̄/ρ.
-    """
-    from kappa.core.composition import mean_molar_mass
-    from kappa.core.constants import N_A, u
-
-    for a, b in (("atomic_mass", "composition"), ("atomic_volume", "density")):
-        if a in sec and b in sec:
-            raise ConfigError(f"material.{b}", sec[b], f"give either material.{a} or "
-                              f"material.{b}, not both")
-    if "atomic_mass" in sec:
-        mass = _number(MATERIAL_KEYS["atomic_mass"], sec["atomic_mass"], "material.atomic_mass")
-    elif "composition" in sec:
-        formula = sec["composition"]
-        if not isinstance(formula, str) or not formula.strip():
-            raise ConfigError("material.composition", formula,
-                              "must be a chemical formula, e.g. Mg2Si0.4Sn0.6")
-        try:
-            mass = mean_molar_mass(formula.strip(), "material.composition") / N_A
-        except KappaError as exc:
-            raise ConfigError(exc.key, exc.value, exc.allowed) from None
-        derived["material.atomic_mass"] = (f"{mass / u:.6g} u (mean mass per atom of "
-                                           f"{formula.strip()}, IUPAC standard atomic weights)")
-    else:
-        raise ConfigError("material.atomic_mass", allowed="missing; the mean mass per atom is "
-                          f"required (e.g. {_EXAMPLE['atomic_mass']}), or give "
-                          "material.composition")
-    if "atomic_volume" in sec:
-        volume = _number(MATERIAL_KEYS["atomic_volume"], sec["atomic_volume"],
-                         "material.atomic_volume")
-    elif "density" in sec:
-        rho = _number(MATERIAL_KEYS["density"], sec["density"], "material.density")
-        volume = mass / rho
-        derived["material.atomic_volume"] = (f"{volume / 1e-30:.6g} angstrom**3 (mean atomic "
-                                             "mass / density)")
-    else:
-        raise ConfigError("material.atomic_volume", allowed="missing; the volume per atom is "
-                          f"required (e.g. {_EXAMPLE['atomic_volume']}), or give "
-                          "material.density")
-    return mass, volume
-
-
-def _branches(value: Any, volume: float, derived: dict) -> tuple[Branch, ...]:
+def _branches(value: Any) -> tuple[BranchSpec, ...]:
     if not isinstance(value, list) or not value:
         raise ConfigError("material.branches", value, "must be a list of branches, e.g. "
                           "[{polarization: longitudinal, ...}, {polarization: transverse, ...}]")
@@ -460,23 +367,13 @@ def _branches(value: Any, volume: float, derived: dict) -> tuple[Branch, ...]:
             if k not in sec:
                 raise ConfigError(f"{key}.{k}", allowed="missing; each branch needs "
                                   "sound_velocity and gruneisen (debye_temperature optional)")
-        v = _number(BRANCH_KEYS["sound_velocity"], sec["sound_velocity"], f"{key}.sound_velocity")
-        g = _number(BRANCH_KEYS["gruneisen"], sec["gruneisen"], f"{key}.gruneisen")
-        count = (_number(BRANCH_KEYS["count"], sec["count"], f"{key}.count") if "count" in sec
-                 else (1.0 if pol == "longitudinal" else 2.0))
-        if "debye_temperature" in sec:
-            theta = _number(BRANCH_KEYS["debye_temperature"], sec["debye_temperature"],
-                            f"{key}.debye_temperature")
-        else:
-            theta = float(debye_temperature_from_velocity(v, volume))
-            derived[f"{key}.debye_temperature"] = (f"{theta:.6g} K (from the branch's sound "
-                                                   "velocity and volume per atom)")
-        out.append(Branch(theta, v, g, count, pol))
-    assert all(b.polarization in POLARIZATIONS for b in out)
+        numbers = {name: parse_value(p, sec[name], f"{key}.{name}")
+                   for name, p in BRANCH_PARAMETERS.items() if name in sec}
+        out.append(BranchSpec(pol, **numbers))
     return tuple(out)
 
 
-def _scattering(sec: dict, material: Material) -> Scattering:
+def _scattering(sec: dict) -> Scattering:
     for k in sec:
         _known(k, tuple(REGISTRY), f"scattering.{k}")
     mechanisms = []
@@ -491,9 +388,9 @@ def _scattering(sec: dict, material: Material) -> Scattering:
             continue
         part = _mapping(sec[key], f"scattering.{key}")
         names = tuple(p.name for p in cls.parameters)
-        kwargs: dict[str, Any] = {}
         for k in part:
             _known(k, names, f"scattering.{key}.{k}")
+        kwargs: dict[str, Any] = {}
         for p in cls.parameters:
             pkey = f"scattering.{key}.{p.name}"
             if p.name not in part:
@@ -505,37 +402,24 @@ def _scattering(sec: dict, material: Material) -> Scattering:
                 p.check(pkey, part[p.name])
                 kwargs[p.name] = part[p.name]
             else:
-                kwargs[p.name] = _number((p, p.unit), part[p.name], pkey)
-        mechanisms.append(cls(**kwargs))
-    scattering = Scattering(tuple(mechanisms))
-    _check_normal_form(sec.get("normal"), scattering)
-    normal = scattering.normal
-    if normal is not None and normal.form == "branch" and not material.per_branch:
-        raise ConfigError("scattering.normal.form", "branch",
-                          "the branch forms need material.branches; use form: ratio for the "
-                          "averaged model")
-    return scattering
-
-
-def _check_normal_form(written: Any, scattering: Scattering) -> None:
-    """A normal-process parameter that the chosen form does not use is an error, not ignored."""
-    n = scattering.get("normal")
-    if n is None or not isinstance(written, dict):
-        return
-    if n.form == "branch" and n.ratio != 0.0:
-        raise ConfigError("scattering.normal.ratio", written.get("ratio"),
-                          "is used only with form: ratio (this config has form: branch; "
-                          "its strength is scattering.normal.scale)")
-    if n.form == "ratio" and n.scale != 1.0:
-        raise ConfigError("scattering.normal.scale", written.get("scale"),
-                          "is used only with form: branch (this config has form: ratio; "
-                          "its strength is scattering.normal.ratio)")
+                kwargs[p.name] = parse_value(p, part[p.name], pkey)
+        mech = cls(**kwargs)
+        for name in kwargs:  # a parameter that the mechanism as configured does not use
+            if not cls.parameter(name).numeric:
+                continue
+            reason = mech.unused(name)
+            default = cls.parameter(name).default
+            if reason and kwargs[name] != default:
+                raise ConfigError(f"scattering.{key}.{name}", part[name], reason)
+        mechanisms.append(mech)
+    return Scattering(tuple(mechanisms))
 
 
 def _temperature(value: Any) -> np.ndarray:
     sec = _mapping(value, "temperature")
     for k in sec:
         _known(k, _TEMPERATURE_ALL, f"temperature.{k}")
+    p = TEMPERATURE_PARAMETER
     if "values" in sec:
         extra = [k for k in sec if k != "values"]
         if extra:
@@ -547,8 +431,9 @@ def _temperature(value: Any) -> np.ndarray:
         if not isinstance(vals, list) or not vals:
             raise ConfigError("temperature.values", vals, "must be a non-empty list, e.g. "
                               "[300 K, 600 K]")
-        T = np.array([_number(TEMPERATURE_KEYS["start"], v, f"temperature.values.{i}")
-                      for i, v in enumerate(vals)])
+        if len(vals) > 100_000:
+            raise ConfigError("temperature.values", f"{len(vals)} values", "at most 100000")
+        T = np.array([parse_value(p, v, f"temperature.values.{i}") for i, v in enumerate(vals)])
         if np.any(np.diff(T) <= 0):
             raise ConfigError("temperature.values", vals, "must be strictly increasing")
         return T
@@ -556,8 +441,8 @@ def _temperature(value: Any) -> np.ndarray:
         if k not in sec:
             raise ConfigError(f"temperature.{k}", allowed="missing; give start, stop and points "
                               "(or values: [...])")
-    start = _number(TEMPERATURE_KEYS["start"], sec["start"], "temperature.start")
-    stop = _number(TEMPERATURE_KEYS["stop"], sec["stop"], "temperature.stop")
+    start = parse_value(p, sec["start"], "temperature.start")
+    stop = parse_value(p, sec["stop"], "temperature.stop")
     points = sec["points"]
     if isinstance(points, float) and points.is_integer():
         points = int(points)
@@ -576,136 +461,19 @@ def _temperature(value: Any) -> np.ndarray:
     return np.linspace(start, stop, points)
 
 
-def _check_physics(config: Config) -> None:
-    m = config.material
-    for mech in config.scattering:
-        mech.check_physics(m)
-    vol_A3 = m.atomic_volume / 1e-30
-    if not 1.0 <= vol_A3 <= 1000.0:
-        warn(f"material.atomic_volume = {vol_A3:.4g} angstrom**3 per atom is outside 1–1000 "
-             "angstrom**3; was a unit left out? (a bare number is read in m**3)")
-    mass_u = m.atomic_mass / 1.66053906660e-27
-    if not 1.0 <= mass_u <= 300.0:
-        warn(f"material.atomic_mass = {mass_u:.4g} u per atom is outside 1–300 u")
+# --- writing ------------------------------------------------------------------------------------
 
 
-def check_temperatures(config: Config, temperature) -> None:
-    """Warn about temperatures the model is not meant for (called where they are used).
-
-    T above 3θ (the largest branch θ); without boundary scattering, T below θ/30 where κ_L
-    grows without bound as Umklapp freezes out.
-    """
-    T = np.atleast_1d(np.asarray(temperature, dtype=float))
-    if T.size == 0:
-        return
-    theta = max(b.debye_temperature for b in config.material.branches)
-    if T.max() > 3.0 * theta:
-        warn(f"temperatures up to {T.max():.4g} K exceed 3θ ({3 * theta:.4g} K); the "
-             "Debye/Callaway model is not meant for that range")
-    if config.scattering.get("boundary") is None and T.min() < theta / 30:
-        warn("no boundary scattering: below about θ/30 "
-             f"({theta / 30:.3g} K) κ_L grows without bound as Umklapp freezes out; add "
-             "scattering.boundary with the grain or sample size")
-
-
-_EXAMPLE = {"atomic_mass": "'28.0855 u'", "atomic_volume": "'20.02 angstrom**3'"}
-
-
-# --- keys for fits and sweeps ----------------------------------------------------------------
-
-
-def parameter_for(key: str) -> Parameter:
-    """The declaration of a numeric dotted key (unit, range), or ConfigError."""
-    parts = _split(key)
-    _check_path(parts, key)
-    if parts[0] == "material" and len(parts) == 2 and parts[1] in MATERIAL_KEYS:
-        return MATERIAL_KEYS[parts[1]][0]
-    if (parts[0] == "material" and len(parts) == 4 and parts[1] == "branches"
-            and parts[3] in BRANCH_KEYS):
-        return BRANCH_KEYS[parts[3]][0]
-    if parts[0] == "scattering" and len(parts) == 3:
-        p = next(p for p in REGISTRY[parts[1]].parameters if p.name == parts[2])
-        if p.numeric:
-            return p
-    if parts[0] == "temperature" and len(parts) == 2 and parts[1] in TEMPERATURE_KEYS:
-        return TEMPERATURE_KEYS[parts[1]][0]
-    raise ConfigError(key, allowed="not a numeric parameter (see kappa check for the numeric "
-                      "keys of a config)")
-
-
-def unused_key(config: Config, key: str) -> str | None:
-    """Why a numeric key has no effect in this config (None if it has one).
-
-    A fit or sweep over such a key would report a parameter the model never sees.
-    """
-    parts = key.split(".")
-    if parts[0] != "scattering" or len(parts) != 3:
-        return None
-    mech = config.scattering.get(parts[1])
-    if parts[1] == "normal" and mech is not None:
-        if mech.form == "branch" and parts[2] == "ratio":
-            return ("scattering.normal.ratio is used only with form: ratio (this config has "
-                    "form: branch; its strength is scattering.normal.scale)")
-        if mech.form == "ratio" and parts[2] == "scale":
-            return ("scattering.normal.scale is used only with form: branch (this config has "
-                    "form: ratio; its strength is scattering.normal.ratio)")
-    if parts[1] == "umklapp" and parts[2] == "exponent_divisor" and mech is not None \
-            and mech.scale == 0:
-        return "Umklapp is switched off (scattering.umklapp.scale = 0)"
-    return None
-
-
-def numeric_keys(config: Config) -> dict[str, Parameter]:
-    """Every numeric key a fit or sweep can vary in this config (dotted path → Parameter)."""
-    keys: dict[str, Parameter] = {}
-    m = config.material
-    sec = config.data.get("material", {})
-    keys["material.atomic_mass"] = MATERIAL_KEYS["atomic_mass"][0]
-    keys["material.atomic_volume"] = MATERIAL_KEYS["atomic_volume"][0]
-    if "density" in sec:  # the volume is derived from it; vary the density instead
-        keys.pop("material.atomic_volume")
-        keys["material.density"] = MATERIAL_KEYS["density"][0]
-    if "composition" in sec:  # the mass is derived from the formula
-        keys.pop("material.atomic_mass")
-    if m.per_branch:
-        for i in range(len(m.branches)):
-            for k in ("debye_temperature", "sound_velocity", "gruneisen"):
-                keys[f"material.branches.{i}.{k}"] = BRANCH_KEYS[k][0]
-    else:
-        for k in ("debye_temperature", "sound_velocity", "gruneisen"):
-            keys[f"material.{k}"] = MATERIAL_KEYS[k][0]
-        if "longitudinal_velocity" in sec:
-            keys.pop("material.sound_velocity")
-            for k in ("longitudinal_velocity", "transverse_velocity"):
-                keys[f"material.{k}"] = MATERIAL_KEYS[k][0]
-    for key, cls in REGISTRY.items():
-        for p in cls.parameters:
-            if p.numeric:
-                keys[f"scattering.{key}.{p.name}"] = p
-    return keys
-
-
-def resolved_value(config: Config, key: str) -> float:
-    """SI value of a numeric key as the model uses it (defaults and derived values included)."""
-    parts = _split(key)
-    m = config.material
-    if parts[0] == "material":
-        if parts[1] in ("atomic_mass", "atomic_volume"):
-            return float(getattr(m, parts[1]))
-        if parts[1] == "branches":
-            return float(getattr(m.branches[_index(key, parts[2], list(m.branches))], parts[3]))
-        if parts[1] in ("debye_temperature", "sound_velocity", "gruneisen") and not m.per_branch:
-            return float(getattr(m.branches[0], parts[1]))
-        if parts[1] in ("longitudinal_velocity", "transverse_velocity", "density"):
-            p = MATERIAL_KEYS[parts[1]]
-            return _number(p, get_value(config.data, key), key)
-    if parts[0] == "scattering" and len(parts) == 3:
-        mech = config.scattering.get(parts[1])
-        if mech is None:
-            p = parameter_for(key)
-            return float(p.default) if isinstance(p.default, (int, float)) else math.nan
-        return float(getattr(mech, parts[2]))
-    raise ConfigError(key, allowed="not a numeric parameter of this config")
+def write_values(data: Mapping, model: Model, values: Mapping[str, float],
+                 digits: int = 12) -> dict:
+    """Plain config data with numeric keys set to SI ``values``, written in display units."""
+    out = dict(data)
+    for key, value in values.items():
+        p = model.parameter(key)
+        shown = float(f"{p.shown(float(value)):.{digits}g}")
+        out = set_value(out, key, shown if p.shown_unit in ("1", "") else
+                        format_quantity(shown, p.shown_unit, digits))
+    return out
 
 
 def config_to_yaml(config: Config, header: str = "") -> str:

@@ -15,7 +15,7 @@ from typing import Any
 
 import numpy as np
 
-__all__ = ["version", "run_record", "write_json", "dump_yaml", "to_plain"]
+__all__ = ["version", "run_record", "write_json", "dump_yaml", "to_plain", "model_summary"]
 
 
 def version() -> str:
@@ -77,3 +77,23 @@ def dump_yaml(data: dict[str, Any], header: str = "") -> str:
     if header:
         text = "".join(f"# {line}\n" if line else "#\n" for line in header.splitlines()) + text
     return text
+
+
+def model_summary(model) -> dict:
+    """The resolved model in SI units, for run records (``name [unit]`` keys)."""
+    from dataclasses import asdict
+
+    m = model.material
+    return {
+        "material": {
+            "name": m.name,
+            "atomic_mass [kg]": m.atomic_mass,
+            "atomic_volume [m^3]": m.atomic_volume,
+            "branches": [{f"{k} [{u}]" if u else k: v for (k, v), u in zip(
+                asdict(b).items(), ("K", "m/s", "1", "1", ""), strict=True)}
+                for b in m.branches],
+        },
+        "scattering": {mech.key: {(f"{p.name} [{p.unit}]" if p.unit else p.name):
+                                  getattr(mech, p.name) for p in mech.parameters}
+                       for mech in model.mechanisms},
+    }

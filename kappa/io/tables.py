@@ -20,7 +20,8 @@ import numpy as np
 from kappa.errors import DataError
 from kappa.io.units import unit_factor
 
-__all__ = ["Column", "Table", "read_table", "parse_header", "format_table", "write_table"]
+__all__ = ["Column", "Table", "read_table", "parse_header", "format_table", "write_table",
+           "axis_columns"]
 
 _HEADER = re.compile(r"^\s*([^\[\]]+?)\s*\[\s*([^\[\]]*?)\s*\]\s*$")
 
@@ -171,3 +172,13 @@ def format_table(columns: Sequence[tuple[str, Iterable]]) -> str:
 def write_table(path: str | Path, columns: Sequence[tuple[str, Iterable]]) -> None:
     """Write ``[(header, values), ...]`` as a CSV file."""
     Path(path).write_text(format_table(columns), encoding="utf-8")
+
+
+def axis_columns(axes) -> list[str]:
+    """``name [unit]`` per sweep axis; the full dotted key where two leaf names clash."""
+    leaves = [a.name for a in axes]
+    out = []
+    for a in axes:
+        name = a.name if leaves.count(a.name) == 1 else a.key
+        out.append(f"{name} [{a.unit}]")
+    return out

@@ -162,3 +162,30 @@ def _describe(unit) -> str:
         if _unit(text).dimensionality == unit.dimensionality:
             return words
     return f"the dimension of {unit:~}"
+
+
+def convert(value, unit: str, target: str):
+    """``value`` in ``unit`` expressed in ``target`` (float or array)."""
+    if unit == target:
+        return value
+    scale, offset = unit_factor(unit, target, "unit")
+    return value * scale + offset
+
+
+def parse_window(text: str | None, option: str = "--window") -> tuple[float, float] | None:
+    """``"100K:600K"`` → (100.0, 600.0) [K]; either side may be empty (open); bare numbers are
+    kelvin and ``degC`` works. None or blank → None."""
+    import math as _math
+
+    if text is None or not str(text).strip():
+        return None
+    text = str(text)
+    allowed = "must be LOW:HIGH with temperatures, e.g. 100K:600K (one side may be empty)"
+    if text.count(":") != 1:
+        raise ConfigError(option, text, allowed)
+    lo_t, hi_t = (s.strip() for s in text.split(":"))
+    lo = parse_quantity(lo_t, "K", option) if lo_t else -_math.inf
+    hi = parse_quantity(hi_t, "K", option) if hi_t else _math.inf
+    if not lo < hi:
+        raise ConfigError(option, text, "the lower temperature must be below the upper one")
+    return lo, hi

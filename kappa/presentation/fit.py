@@ -1,6 +1,6 @@
 """Figures of a fit: data, fitted curve, each mechanism switched off, residuals.
 
-Object-API matplotlib through :func:`kappa.plots.new_figure`; no pyplot state.
+Object-API matplotlib through :func:`kappa.presentation.style.new_figure`; no pyplot state.
 """
 
 from __future__ import annotations
@@ -10,13 +10,22 @@ from typing import Any
 
 import numpy as np
 
-from kappa.presentation.style import KAPPA_L_LABEL, log_axes, new_figure
-from kappa.workflows.fit import FitResult
-from kappa.workflows.predict import Prediction
+from kappa.presentation.style import KAPPA_L_LABEL, log_axes, mechanism_title, new_figure
+from kappa.workflows.fitting import FitResult
+from kappa.workflows.predict import Prediction, predict
 
-__all__ = ["plot_fit", "add_band"]
+__all__ = ["plot_fit", "add_band", "fit_curves"]
 
-_TITLES = {"umklapp": "Umklapp", "boundary": "boundary", "point_defect": "point defects"}
+
+def fit_curves(result: FitResult, points: int = 160) -> list[Prediction]:
+    """Predictions of each fitted sample on a fine grid spanning its data (for figures)."""
+    out = []
+    for s in result.samples:
+        T = s.data.temperature
+        lo, hi = float(T.min()), float(T.max())
+        grid = (np.geomspace(lo, hi, points) if hi / lo >= 5 else np.linspace(lo, hi, points))
+        out.append(predict(s.model, grid, warnings=False))
+    return out
 
 
 def _log_axes(T: np.ndarray) -> bool:
@@ -26,7 +35,7 @@ def _log_axes(T: np.ndarray) -> bool:
 def plot_fit(result: FitResult, curves: Sequence[Prediction], title: str = "") -> Any:
     """One column per sample: data and fit (top), residuals (bottom). Returns the Figure.
 
-    ``curves`` are the fitted models on a fine grid (:func:`kappa.fit.fit_curves`), one per
+    ``curves`` are the fitted models on a fine grid (:func:`fit_curves`), one per
     sample; each curve's ``without`` entries are drawn dashed (that mechanism switched off).
     Residual panel: (κ − κ_fit)/σ for weighted fits, 100·(κ/κ_fit − 1) % otherwise.
     """
@@ -45,9 +54,9 @@ def plot_fit(result: FitResult, curves: Sequence[Prediction], title: str = "") -
             if np.all(np.isnan(k)):
                 continue
             ax.plot(curve.temperature, k, ls="--", lw=1.0,
-                    label=f"fit without {_TITLES.get(key, key)}")
-        if d.sigma is not None:
-            ax.errorbar(d.temperature, d.kappa_L, yerr=d.sigma, fmt="o", ms=4, color="tab:red",
+                    label=f"fit without {mechanism_title(key)}")
+        if d.uncertainty is not None:
+            ax.errorbar(d.temperature, d.kappa_L, yerr=d.uncertainty, fmt="o", ms=4, color="tab:red",
                         capsize=2, label="data")
         else:
             ax.plot(d.temperature, d.kappa_L, "o", ms=4, color="tab:red", label="data")
@@ -59,12 +68,12 @@ def plot_fit(result: FitResult, curves: Sequence[Prediction], title: str = "") -
         if ax.get_yscale() == "log":
             ax.set_ylim(lo / 2.0, hi * 2.0)
         ax.set_ylabel(KAPPA_L_LABEL)
-        ax.set_title(s.name if n > 1 else (title or f"Fit: {s.config.material.name or s.name}"),
+        ax.set_title(s.name if n > 1 else (title or f"Fit: {s.model.material.name or s.name}"),
                      fontsize=10)
         ax.grid(True, which="both", alpha=0.3)
         ax.legend(fontsize=7)
         if result.weighted:
-            rax.plot(d.temperature, -s.normalized, "o", ms=4, color="tab:red")
+            rax.plot(d.temperature, s.normalized, "o", ms=4, color="tab:red")
             rax.set_ylabel("(κ − fit)/σ")
         else:
             rax.plot(d.temperature, 100.0 * (d.kappa_L / s.kappa_L_fit - 1.0), "o", ms=4,

@@ -9,13 +9,19 @@ import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
+from kappa.core.mechanisms import REGISTRY
 from kappa.workflows.predict import Prediction
 
-__all__ = ["new_figure", "save", "plot_prediction", "log_axes", "KAPPA_L_LABEL"]
+__all__ = ["new_figure", "save", "plot_prediction", "log_axes", "mechanism_title",
+           "KAPPA_L_LABEL"]
 
 KAPPA_L_LABEL = r"$\kappa_L$ [W/(m K)]"
 
-_TITLES = {"umklapp": "Umklapp", "boundary": "boundary", "point_defect": "point defects"}
+
+def mechanism_title(key: str) -> str:
+    """The human name of a mechanism from the registry (``point defects``)."""
+    cls = REGISTRY.get(key)
+    return cls.title if cls is not None else key.replace("_", " ")
 
 
 def new_figure(width: float = 6.4, height: float = 4.4, nrows: int = 1, ncols: int = 1,
@@ -59,7 +65,7 @@ def log_axes(ax, x: bool = True, y: bool = True) -> None:
 
 
 def plot_prediction(prediction: Prediction, overlays: Sequence[tuple[str, Prediction]] = (),
-                    ax=None):
+                    ax=None):  # overlays: (label, prediction) pairs
     """κ_L(T): the model (solid), each mechanism switched off (dashed), optional overlays.
 
     Returns the figure.
@@ -71,7 +77,7 @@ def plot_prediction(prediction: Prediction, overlays: Sequence[tuple[str, Predic
     else:
         fig = ax.figure
     T = prediction.temperature
-    name = prediction.config.material.name or "model"
+    name = prediction.model.material.name or "model"
     if overlays:
         for label, p in overlays:
             ax.plot(p.temperature, p.kappa_L, lw=1.8, label=label)
@@ -82,7 +88,7 @@ def plot_prediction(prediction: Prediction, overlays: Sequence[tuple[str, Predic
         for key, k in prediction.without.items():
             if np.all(np.isnan(k)):
                 continue
-            ax.plot(T, k, ls="--", lw=1.2, label=f"without {_TITLES.get(key, key)}")
+            ax.plot(T, k, ls="--", lw=1.2, label=f"without {mechanism_title(key)}")
     if _log_axes(T):
         curves = [prediction.kappa_L, *[p.kappa_L for _, p in overlays],
                   *[k for k in prediction.without.values() if not np.all(np.isnan(k))]]

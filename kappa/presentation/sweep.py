@@ -1,4 +1,4 @@
-"""Figures for sweeps and spectra (matplotlib object API via :func:`kappa.plots.new_figure`).
+"""Figures for sweeps and spectra (matplotlib object API via :func:`kappa.presentation.style.new_figure`).
 
 Sweeps: one key → κ_L against the key, one line per temperature; two or more keys → a filled
 contour map of κ_L over the first two keys with labelled iso-κ lines, one panel per temperature
@@ -14,9 +14,10 @@ import math
 import numpy as np
 from matplotlib.colors import LogNorm  # noqa: TID251 - plotting module
 
+from kappa.io.tables import axis_columns as column_names
 from kappa.presentation.style import new_figure
 from kappa.workflows.spectrum import Spectrum
-from kappa.workflows.sweep import SweepResult, column_names
+from kappa.workflows.sweep import SweepResult
 
 __all__ = ["plot_sweep", "plot_sweep_lines", "plot_sweep_map", "plot_spectral",
            "plot_cumulative", "plot_rates", "pick", "MAX_PANELS", "MAX_LINES"]
