@@ -1,5 +1,6 @@
 """``python -m kappa`` runs the command line."""
 
-from .cli.main import run
+from kappa.cli.main import run
 
-run()
+if __name__ == "__main__":
+    run()

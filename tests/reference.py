@@ -29,12 +29,15 @@ def weight(x: float) -> float:
 
 def reference_kappa(T: float, mass: float, volume: float, branches: list[dict],
                     umklapp: dict | None = None, boundary: dict | None = None,
-                    point_defect: dict | None = None, normal: dict | None = None) -> float:
+                    point_defect: dict | None = None, normal: dict | None = None,
+                    extra=None, extra_points=()) -> float:
     """κ_L [W/(m K)] by adaptive quadrature.
 
     branches: [{"count", "theta", "v", "gamma", "pol"}]; mass [kg], volume [m³];
     umklapp {"scale", "b"}; boundary {"L", "p"}; point_defect {"gamma_m", "gamma_s"};
-    normal {"ratio"} or {"form": "branch", "scale"}.
+    normal {"ratio"} or {"form": "branch", "scale"}; ``extra(ω, branch)`` an additional
+    resistive rate [1/s] with ``extra_points`` (angular frequencies [rad/s]) where it changes
+    fast.
     """
     total = 0.0
     wt = KB * T / HBAR
@@ -48,11 +51,13 @@ def reference_kappa(T: float, mass: float, volume: float, branches: list[dict],
             return (umklapp.get("scale", 1.0) * HBAR * g**2 / (mass * v**2 * th) * w**2 * T
                     * math.exp(-th / (umklapp.get("b", 3.0) * T)))
 
-        def rates(w, th=th, v=v, g=g, pol=polarization):
+        def rates(w, th=th, v=v, g=g, pol=polarization, br=br):
             r = tau_u_inv(w)
             if boundary:
                 p = boundary.get("p", 0.0)
                 r += v * (1 - p) / ((1 + p) * boundary["L"])
+            if extra is not None:
+                r += extra(w, br)
             if point_defect:
                 r += (volume * (point_defect.get("gamma_m", 0.0) + point_defect.get("gamma_s", 0.0))
                       * w**4 / (4 * math.pi * v**3))
@@ -82,6 +87,7 @@ def reference_kappa(T: float, mass: float, volume: float, branches: list[dict],
         brk = [math.log(x) for x, a, b in zip(grid[1:], slope[1:], slope[:-1], strict=True)
                if abs(a - b) > 1e-3]
         brk = sorted(set(brk))[::4][:90]
+        brk = sorted(set(brk) | {math.log(p / wt) for p in extra_points if 0 < p / wt < top})
         ints = []
         for which in range(3):
             lo = -92.0

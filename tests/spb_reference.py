@@ -1,7 +1,7 @@
 """Independent single-parabolic-band reference built on mpmath (not on kappa's quadrature).
 
 F_j(eta) = -Gamma(j+1) Li_{j+1}(-e^eta) (mpmath.polylog); S and L from the formulas in
-REFERENCES.md (lambda = scattering exponent, tau ~ E^(lambda-1/2)); eta from |S| by
+tests/reference_values.py (lambda = scattering exponent, tau ~ E^(lambda-1/2)); eta from |S| by
 mpmath.findroot. Used only by the tests.
 """
 

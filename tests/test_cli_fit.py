@@ -235,7 +235,7 @@ def test_demo_series_example_runs(tmp_path):
 
 
 def test_free_with_bounds_in_one_item(tmp_path):
-    # the form: --free KEY=LOW:HIGH gives bounds (the start is the config value)
+    # --free KEY=LOW:HIGH gives bounds (the start is the config value)
     from pathlib import Path
 
     demo = Path(__file__).resolve().parents[1] / "examples" / "fit-demo"

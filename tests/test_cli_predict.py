@@ -127,7 +127,7 @@ def test_set_and_compare(tmp_path):
 
 
 BAD_CLI = [
-    # (key, value, message fragment) — each is one bad-input class of the issue
+    # (key, value, message fragment) — one case per class of bad input
     ("material.gruneisn", 1.0, "did you mean 'gruneisen'"),            # unknown key
     ("scattering.boundary.grain_size", "5 K", "wrong dimension"),      # wrong dimension
     ("scattering.boundary.grain_size", "5 furlongz", "unknown unit"),  # unknown unit
@@ -255,7 +255,7 @@ def test_usage_errors_are_one_line_through_the_console_script(tmp_path):
 
 def test_check_prints_the_cahill_minimum(tmp_path):
     # Silicon, VRH velocities v_L = 8950, v_T = 5345 m/s, V₀ = 20.02 Å³: κ_min = 1.148 W/(m K)
-    # at 300 K and 1.48 W/(m K) high-T (REFERENCES.md, D from Cahill, Watson & Pohl 1992).
+    # at 300 K and 1.48 W/(m K) high-T (tests/reference_values.py, D from Cahill, Watson & Pohl 1992).
     mat = {k: v for k, v in GOOD["material"].items() if k != "sound_velocity"}
     mat.update(longitudinal_velocity="8950 m/s", transverse_velocity="5345 m/s")
     cfg = _write(tmp_path, {**GOOD, "material": mat})

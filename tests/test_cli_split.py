@@ -132,7 +132,7 @@ def test_dulong_petit_reported(tmp_path):
     result = run(f, "-o", out, "--composition", "PbTe", "--draws", 200)
     assert result.exit_code == 0, result.output
     assert "Heat capacity: Dulong-Petit 3R/M from PbTe" in result.output
-    # 3R/M(PbTe) = 0.14900 J/(g K) (hand arithmetic, REFERENCES 3R, IUPAC weights)
+    # 3R/M(PbTe) = 0.14900 J/(g K) (hand arithmetic, reference_values: 3R, IUPAC weights)
     np.testing.assert_allclose(read_out(out).get("cp", "J/(g K)"), 0.14900, rtol=2e-4)
 
 
@@ -234,7 +234,7 @@ def test_split_csv_is_readable_as_a_fit_input(lab_files, tmp_path):
 def test_config_gives_the_cahill_minimum(tmp_path):
     # Cahill–Watson–Pohl minimum from a config's volume per atom and branch velocities; for
     # silicon (n = 5.0e28 m^-3, v_L 8480, v_T 5860 m/s) it is ≈ 1.0–1.5 W/(m K) above 300 K
-    # (REFERENCES.md: 1.148 W/mK at 300 K and 1.48 high-T limit with the VRH velocities, D).
+    # (tests/reference_values.py: 1.148 W/mK at 300 K and 1.48 high-T limit with the VRH velocities, D).
     from pathlib import Path
 
     root = Path(__file__).resolve().parents[1]

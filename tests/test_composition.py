@@ -64,7 +64,7 @@ def test_mean_molar_mass_hand_worked():
 
 
 def test_dulong_petit_of_a_compound():
-    # source: 3R = 24.943 J/(mol K) per mole of atoms (REFERENCES.md, Dulong-Petit);
+    # source: 3R = 24.943 J/(mol K) per mole of atoms (tests/reference_values.py, Dulong-Petit);
     # PbTe, IUPAC weights Pb 207.2, Te 127.60: M = 167.40 g/mol per atom
     # -> cp = 24.943 / 167.40 = 0.14900 J/(g K) (hand arithmetic)
     assert dulong_petit_heat_capacity("PbTe") / 1e3 == pytest.approx(0.14900, rel=2e-4)

@@ -78,7 +78,7 @@ def test_kernel_matches_adaptive_quadrature(name, T_over_theta):
 @pytest.mark.parametrize("T", [0.5, 1.0, 2.0])
 def test_casimir_limit_single_branch(T):
     # Boundary-only Debye conductivity at T ≪ θ: κ = (2π²/15) k_B⁴T³L/(ħ³v²)
-    # (closed form; REFERENCES.md "Boundary-limited (Casimir) Debye conductivity", D).
+    # (closed form; tests/reference_values.py "Boundary-limited (Casimir) Debye conductivity", D).
     L, v = 2e-3, 6084.0
     m = Material.averaged(28.0855 * U, 20.02e-30, 645.0, v, 1.0)
     ours = lattice_conductivity(m, Scattering((Boundary(L),)), [T])[0]
@@ -87,7 +87,7 @@ def test_casimir_limit_single_branch(T):
 
 
 def test_casimir_limit_per_branch():
-    # Per-branch weights: (2π²/45)(k_B⁴T³L/ħ³) Σ_i v_i⁻² over the three branches (REFERENCES.md, D)
+    # Per-branch weights: (2π²/45)(k_B⁴T³L/ħ³) Σ_i v_i⁻² over the three branches (tests/reference_values.py, D)
     T, L = 1.0, 1e-3
     m = _material(PER)
     ours = lattice_conductivity(m, Scattering((Boundary(L),)), [T])[0]

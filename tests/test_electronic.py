@@ -36,9 +36,9 @@ def test_k_over_e_from_scipy_constants():
 
 
 def test_lorenz_limits_constants():
-    # source: REFERENCES.md, Sommerfeld L0 = 2.443e-8 W Ohm K^-2 (P/D)
+    # source: tests/reference_values.py, Sommerfeld L0 = 2.443e-8 W Ohm K^-2 (P/D)
     assert LORENZ_DEGENERATE == pytest.approx(2.443e-8, rel=2e-4)
-    # source: REFERENCES.md, non-degenerate SPB acoustic 2 (k_B/e)^2 = 1.485e-8 (D)
+    # source: tests/reference_values.py, non-degenerate SPB acoustic 2 (k_B/e)^2 = 1.485e-8 (D)
     assert LORENZ_NONDEGENERATE == pytest.approx(1.485e-8, rel=2e-4)
 
 
@@ -46,7 +46,7 @@ def test_lorenz_limits_constants():
 @pytest.mark.parametrize("eta", [-60.0, -20.0, -3.0, -0.5, 0.0, 0.7, 4.0, 25.0, 59.0, 61.0,
                                  150.0, 900.0, 8000.0])
 def test_fermi_dirac_against_mpmath_polylog(j, eta):
-    # source: mpmath, F_j(eta) = -Gamma(j+1) Li_{j+1}(-e^eta) at 40 digits (REFERENCES.md)
+    # source: mpmath, F_j(eta) = -Gamma(j+1) Li_{j+1}(-e^eta) at 40 digits (tests/reference_values.py)
     expected = float(ref.fd(j, eta))
     assert fermi_dirac_integral(j, eta) == pytest.approx(expected, rel=RTOL_FD)
 
@@ -76,7 +76,7 @@ def test_fermi_dirac_vectorised_shape():
 
 
 def test_spb_published_points():
-    # source: REFERENCES.md (D), lambda = 0: eta=0 -> S=204.50 uV/K, L=1.6130e-8;
+    # source: tests/reference_values.py (D), lambda = 0: eta=0 -> S=204.50 uV/K, L=1.6130e-8;
     # eta=5 -> S=55.81 uV/K, L=2.1790e-8
     assert spb_seebeck(0.0) * 1e6 == pytest.approx(204.50, abs=0.01)
     assert spb_lorenz(0.0) == pytest.approx(1.6130e-8, rel=1e-4)
@@ -85,7 +85,7 @@ def test_spb_published_points():
 
 
 def test_spb_degenerate_and_nondegenerate_limits():
-    # source: REFERENCES.md: eta -> inf gives (pi^2/3)(k_B/e)^2; eta -> -inf gives
+    # source: tests/reference_values.py: eta -> inf gives (pi^2/3)(k_B/e)^2; eta -> -inf gives
     # 2 (k_B/e)^2 for acoustic phonons; (2 + lambda)(k_B/e)^2 in general (standard SPB result)
     assert spb_lorenz(3000.0) == pytest.approx(math.pi**2 / 3 * (sc.k / sc.e) ** 2, rel=1e-6)
     assert spb_lorenz(-40.0) == pytest.approx(2 * (sc.k / sc.e) ** 2, rel=1e-12)

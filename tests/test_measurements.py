@@ -14,7 +14,7 @@ def write(tmp_path, name, text):
 
 
 def test_flash_trio_unit_arithmetic(tmp_path):
-    # source: REFERENCES.md unit reminder: mm^2/s x g/cm^3 x J/(g K) = W/(m K), no extra factor;
+    # source: tests/reference_values.py unit reminder: mm^2/s x g/cm^3 x J/(g K) = W/(m K), no extra factor;
     # 1.5 * 6.0 * 0.2 = 1.8 W/(m K) (hand arithmetic)
     p = write(tmp_path, "f.csv", "T [K],D [mm^2/s],rho [g/cm^3],cp [J/(g K)],sigma [S/m]\n"
               "300,1.5,6.0,0.2,1e5\n400,1.5,6.0,0.2,1e5\n500,1.5,6.0,0.2,1e5\n")

@@ -1,4 +1,4 @@
-"""The fixed quadrature rule against closed forms (see REFERENCES.md, identities marked D)."""
+"""The fixed quadrature rule against closed forms (see tests/reference_values.py, identities marked D)."""
 
 import math
 
@@ -16,12 +16,12 @@ def _integrate(f, top):
 
 
 def test_integral_of_phonon_weight_is_4pi4_over_15():
-    # ∫₀^∞ x⁴eˣ/(eˣ−1)² dx = 4π⁴/15 (textbook identity; REFERENCES.md, D)
+    # ∫₀^∞ x⁴eˣ/(eˣ−1)² dx = 4π⁴/15 (textbook identity; tests/reference_values.py, D)
     assert _integrate(phonon_weight, 1e4) == pytest.approx(4 * math.pi**4 / 15, rel=1e-9)
 
 
 def test_integral_of_weight_over_x2_is_pi2_over_3():
-    # ∫₀^∞ x²eˣ/(eˣ−1)² dx = π²/3 (textbook identity; REFERENCES.md, D)
+    # ∫₀^∞ x²eˣ/(eˣ−1)² dx = π²/3 (textbook identity; tests/reference_values.py, D)
     assert _integrate(lambda x: phonon_weight(x) / x**2, 1e4) == pytest.approx(
         math.pi**2 / 3, rel=1e-9)
 

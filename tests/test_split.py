@@ -17,7 +17,7 @@ T5 = np.array([300.0, 350.0, 400.0, 450.0, 500.0])
 
 def test_default_uncertainties_are_round_robin_values():
     # source: Alleno et al., Rev. Sci. Instrum. 86, 011301 (2015): S 6 %, resistivity 8 %,
-    # kappa 11 % (REFERENCES.md)
+    # kappa 11 % (tests/reference_values.py)
     assert DEFAULT_UNCERTAINTY == {"kappa": 0.11, "sigma": 0.08, "S": 0.06, "L": 0.0}
 
 
@@ -134,12 +134,12 @@ def test_nonpositive_flag_warns():
     assert r.nonpositive.all()
 
 
-SI_N = 2329.0 / (28.0855e-3 / sc.N_A)  # silicon: rho 2.329 g/cm^3 (REFERENCES.md, P)
-SI_V = (8950.0, 5345.0, 5345.0)  # Hill-average velocities from REFERENCES.md (D)
+SI_N = 2329.0 / (28.0855e-3 / sc.N_A)  # silicon: rho 2.329 g/cm^3 (tests/reference_values.py, P)
+SI_V = (8950.0, 5345.0, 5345.0)  # Hill-average velocities from tests/reference_values.py (D)
 
 
 def test_cahill_minimum_silicon():
-    # source: REFERENCES.md (D): derived from the Cahill-Watson-Pohl formula (Phys. Rev. B 46,
+    # source: tests/reference_values.py (D): derived from the Cahill-Watson-Pohl formula (Phys. Rev. B 46,
     # 6131 (1992)) with the silicon velocities above: 1.148 W/(m K) at 300 K, 1.48 high-T limit
     assert cahill_minimum(300.0, SI_N, SI_V) == pytest.approx(1.148, abs=0.001)
     assert cahill_minimum(1e6, SI_N, SI_V) == pytest.approx(1.48, abs=0.005)

@@ -525,8 +525,8 @@ class BranchState:
         if self._rates.res_other or self._rates.nrm_other:
             def nodes(xx, grid):
                 x = xx[grid]
-                rn = np.vstack([self._nonpoly(self._rates.res_other, row) for row in x])
-                nn = np.vstack([self._nonpoly(self._rates.nrm_other, row) for row in x])
+                rn = self._nonpoly(self._rates.res_other, x)
+                nn = self._nonpoly(self._rates.nrm_other, x)
                 pw = _omega_powers(self.temperature)
                 rl = np.broadcast_to(self._rates.dense("res_low")[0] * pw, (n, NPOW))
                 nl = np.broadcast_to(self._rates.dense("nrm_low")[0] * pw, (n, NPOW))

@@ -7,7 +7,7 @@ check``, figure labels — reads the class's declarations.
 
 from __future__ import annotations
 
-from kappa.core.mechanisms.base import NPOW, Mechanism, RateContext
+from kappa.core.mechanisms.base import NPOW, Mechanism, RateContext, per_node
 from kappa.core.mechanisms.boundary import Boundary, boundary_rate
 from kappa.core.mechanisms.normal import Normal, normal_branch_coefficient
 from kappa.core.mechanisms.point_defect import PointDefect, point_defect_coefficient
@@ -18,6 +18,7 @@ __all__ = [
     "REGISTRY",
     "Mechanism",
     "RateContext",
+    "per_node",
     "Umklapp",
     "Boundary",
     "PointDefect",

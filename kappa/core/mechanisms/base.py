@@ -29,7 +29,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from kappa.core.material import Branch, Derived, Material, MaterialSpec
     from kappa.core.scattering import Scattering
 
-__all__ = ["Mechanism", "RateContext", "NPOW"]
+__all__ = ["Mechanism", "RateContext", "NPOW", "per_node"]
 
 NPOW = 5  #: polynomial rates have powers ω⁰ … ω⁴
 
@@ -156,3 +156,9 @@ class Mechanism:
 def zeros_like(ctx: RateContext) -> np.ndarray:
     """An array of zeros of the context's broadcast shape."""
     return np.zeros(ctx.shape)
+
+
+def per_node(value):
+    """A value broadcasting to ``ctx.shape`` made to broadcast against ω of shape
+    ``ctx.shape + (M,)`` (a trailing axis for arrays; floats as they are)."""
+    return np.asarray(value)[..., None] if np.ndim(value) else value
