@@ -70,7 +70,7 @@ def test_spectrum_outputs(cfg, tmp_path):
     assert [x[0] for x in lines] == ["300", "600"]
     record = json.loads((out / "run.json").read_text())
     assert record["command"] == "spectrum"
-    assert record["mfp50_nm"][0] == pytest.approx(float(lines[0][1]), rel=5e-3)
+    assert record["mfp50 [nm]"][0] == pytest.approx(float(lines[0][1]), rel=5e-3)
     assert "tau_eff" in record["relaxation_time"]
 
 

@@ -127,10 +127,9 @@ def sweep_command(
         axes=[{"key": a.key, "column": n, "unit": a.unit, "spacing": "log" if a.log else
                ("list" if ":" not in a.spec else "linear"), "values": a.shown}
               for a, n in zip(axes, names, strict=True)],
-        temperatures_K=T,
         points=points,
-        reference_kappa_L=result.reference,
-        seconds=round(elapsed, 3),
+        **{"temperatures [K]": T, "reference kappa_L [W/(m K)]": result.reference,
+           "time [s]": round(elapsed, 3)},
         resolved_inputs=cfg.data,
         derived=derived,
         model_si=model_summary(model),
