@@ -27,11 +27,6 @@ import numpy as np
 
 from kappa.core import quadrature as _q
 from kappa.core.constants import hbar, k_B
-from kappa.core.kernels import (
-    callaway_integrals,
-    callaway_integrals_free,
-    callaway_integrals_nodes,
-)
 from kappa.core.mechanisms import NPOW, Mechanism, RateContext
 from kappa.core.model import Model, batch_map
 from kappa.core.quadrature import X_CUT, block_rule, rules
@@ -58,6 +53,8 @@ T_MAX = 1e5  #: highest temperature accepted [K] (solids melt below about 4,000 
 KAPPA_MAX = 1e5  #: κ_L above this [W/(m K)] is beyond any known solid (a warning)
 _SAMPLES_POLY = 1 << 17  #: samples per kernel call, polynomial rates
 _SAMPLES_NODES = 1 << 14  #: samples per kernel call when rates are evaluated on the nodes
+_SERIAL_BELOW = 20_000  #: fewer samples than this run in one thread (no thread-pool start-up)
+_ARRAY_BELOW = 4_096  #: fewer samples than this are integrated with numpy (no compiled code to load)
 _BLOCK = block_rule()
 _FREE = (*_q.relative_log_rule(), *_q.linear_nodes())
 _LOG_W = _q.phonon_weight(_q.X_SWITCH * _FREE[0])
@@ -202,14 +199,30 @@ def _integrals(tops: np.ndarray, res_x: np.ndarray, nrm_x: np.ndarray, nodes=Non
     else:
         uniq, grid = np.minimum(rule_index[0], X_CUT), rule_index[1]
     grid = np.ascontiguousarray(grid, dtype=np.int64).ravel()
+    if nodes is None and S < _ARRAY_BELOW:  # numpy: no compiled code to load for a small job
+        from kappa.core.array_kernels import integrals_shared_rules
+
+        xx, wq, count, x_s = rules(uniq)
+        return integrals_shared_rules(xx, wq, count, x_s, grid, res_x, nrm_x, bt, bq)
+    from kappa.core.kernels import (
+        callaway_integrals,
+        callaway_integrals_free,
+        callaway_integrals_free_serial,
+        callaway_integrals_nodes,
+        callaway_integrals_serial,
+    )
+
+    small = S < _SERIAL_BELOW
     if nodes is None and uniq.size > 64 and uniq.size > S // 4:
         log_t, log_q, lin_t, lin_q = _FREE
-        callaway_integrals_free(tops, res_x, nrm_x, log_t, log_q, _LOG_W, lin_t, lin_q,
-                                _q.X_SWITCH, _q.EPS_LOW, _q.LIN_WIDTH, bt, bq, out)
+        kernel = callaway_integrals_free_serial if small else callaway_integrals_free
+        kernel(tops, res_x, nrm_x, log_t, log_q, _LOG_W, lin_t, lin_q, _q.X_SWITCH, _q.EPS_LOW,
+               _q.LIN_WIDTH, bt, bq, out)
         return out
     xx, wq, count, x_s = rules(uniq)
     if nodes is None:
-        callaway_integrals(xx, wq, count, x_s, grid, res_x, nrm_x, bt, bq, out)
+        kernel = callaway_integrals_serial if small else callaway_integrals
+        kernel(xx, wq, count, x_s, grid, res_x, nrm_x, bt, bq, out)
     else:
         rn, nn, rl, nl = nodes(xx, grid)
         callaway_integrals_nodes(xx, wq, count, x_s, grid, res_x, nrm_x,

@@ -16,7 +16,8 @@ from __future__ import annotations
 import numpy as np
 from numba import njit, prange
 
-__all__ = ["callaway_integrals", "callaway_integrals_free", "callaway_integrals_nodes"]
+__all__ = ["callaway_integrals", "callaway_integrals_serial", "callaway_integrals_free",
+           "callaway_integrals_free_serial", "callaway_integrals_nodes"]
 
 # fastmath flags: reassociation lets the sums vectorise; no 'nnan'/'ninf' so that a NaN from bad
 # input would still show. cache=True: compiled once per machine, then loaded from the cache.
@@ -81,47 +82,60 @@ def _small_x(r, n, xs, bt, bq, i1, i2, i3):  # pragma: no cover - compiled
     return i1, i2, i3
 
 
+@njit(cache=True, fastmath=_FAST, error_model=_NP, inline="always")
+def _shared_rule_sample(x, wq, count, x_s, grid, res, nrm, bt, bq, out, s):  # pragma: no cover
+    """Integrals of sample s with the shared rule ``grid[s]`` (see :func:`callaway_integrals`)."""
+    g = grid[s]
+    r = res[s]
+    nn = nrm[s]
+    r0, r1, r2, r3, r4 = r[0], r[1], r[2], r[3], r[4]
+    if not (r0 > 0.0 or r1 > 0.0 or r2 > 0.0):  # no ω⁰–ω² term: I₁ diverges at x → 0
+        out[s, 0] = np.inf
+        out[s, 1] = np.nan
+        out[s, 2] = np.nan
+        return
+    n0, n1, n2, n3, n4 = nn[0], nn[1], nn[2], nn[3], nn[4]
+    i1 = 0.0
+    i2 = 0.0
+    i3 = 0.0
+    m = count[g]
+    if n0 == 0.0 and n1 == 0.0 and n2 == 0.0 and n3 == 0.0 and n4 == 0.0:
+        for i in range(m):
+            xi = x[g, i]
+            i1 += wq[g, i] / (r0 + xi * (r1 + xi * (r2 + xi * (r3 + xi * r4))))
+    else:
+        for i in range(m):
+            xi = x[g, i]
+            rr = r0 + xi * (r1 + xi * (r2 + xi * (r3 + xi * r4)))
+            rn = n0 + xi * (n1 + xi * (n2 + xi * (n3 + xi * n4)))
+            tc = wq[g, i] / (rr + rn)
+            i1 += tc
+            i2 += tc * rn
+            i3 += tc * rn * rr
+    i1, i2, i3 = _small_x(r, nn, x_s[g], bt, bq, i1, i2, i3)
+    out[s, 0] = i1
+    out[s, 1] = i2
+    out[s, 2] = i3
+
+
 @njit(cache=True, parallel=True, fastmath=_FAST, error_model=_NP)
 def callaway_integrals(x, wq, count, x_s, grid, res, nrm, bt, bq, out):  # pragma: no cover
-    """Fill ``out[s] = (I₁, I₂, I₃)`` for every sample s.
+    """Fill ``out[s] = (I₁, I₂, I₃)`` for every sample s (in parallel).
 
     x, wq : (G, M) nodes and weight×phonon weight of G rules; count : (G,) used nodes;
     x_s : (G,) lower ends of the rules; grid : (S,) rule index per sample;
     res, nrm : (S, 5) coefficients; bt, bq : relative small-x block rule; out : (S, 3).
     """
-    n_samples = grid.shape[0]
-    for s in prange(n_samples):
-        g = grid[s]
-        r = res[s]
-        nn = nrm[s]
-        r0, r1, r2, r3, r4 = r[0], r[1], r[2], r[3], r[4]
-        if not (r0 > 0.0 or r1 > 0.0 or r2 > 0.0):  # no ω⁰–ω² term: I₁ diverges at x → 0
-            out[s, 0] = np.inf
-            out[s, 1] = np.nan
-            out[s, 2] = np.nan
-            continue
-        n0, n1, n2, n3, n4 = nn[0], nn[1], nn[2], nn[3], nn[4]
-        i1 = 0.0
-        i2 = 0.0
-        i3 = 0.0
-        m = count[g]
-        if n0 == 0.0 and n1 == 0.0 and n2 == 0.0 and n3 == 0.0 and n4 == 0.0:
-            for i in range(m):
-                xi = x[g, i]
-                i1 += wq[g, i] / (r0 + xi * (r1 + xi * (r2 + xi * (r3 + xi * r4))))
-        else:
-            for i in range(m):
-                xi = x[g, i]
-                rr = r0 + xi * (r1 + xi * (r2 + xi * (r3 + xi * r4)))
-                rn = n0 + xi * (n1 + xi * (n2 + xi * (n3 + xi * n4)))
-                tc = wq[g, i] / (rr + rn)
-                i1 += tc
-                i2 += tc * rn
-                i3 += tc * rn * rr
-        i1, i2, i3 = _small_x(r, nn, x_s[g], bt, bq, i1, i2, i3)
-        out[s, 0] = i1
-        out[s, 1] = i2
-        out[s, 2] = i3
+    for s in prange(grid.shape[0]):
+        _shared_rule_sample(x, wq, count, x_s, grid, res, nrm, bt, bq, out, s)
+
+
+@njit(cache=True, fastmath=_FAST, error_model=_NP)
+def callaway_integrals_serial(x, wq, count, x_s, grid, res, nrm, bt, bq, out):  # pragma: no cover
+    """:func:`callaway_integrals` in one thread: for small problems, where starting the thread
+    pool (and loading the parallel code) costs more than it saves."""
+    for s in range(grid.shape[0]):
+        _shared_rule_sample(x, wq, count, x_s, grid, res, nrm, bt, bq, out, s)
 
 
 @njit(cache=True, fastmath=_FAST, error_model=_NP)
@@ -135,6 +149,48 @@ def _weight(x):  # pragma: no cover - compiled
     return x * x * x * x * em / (d * d)
 
 
+@njit(cache=True, fastmath=_FAST, error_model=_NP, inline="always")
+def _own_rule_sample(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q, x_switch, eps_low,
+                     lin_width, bt, bq, out, s):  # pragma: no cover - compiled
+    """Integrals of sample s with a rule built for its own upper limit."""
+    r = res[s]
+    nn = nrm[s]
+    if not (r[0] > 0.0 or r[1] > 0.0 or r[2] > 0.0):  # I₁ diverges at x → 0
+        out[s, 0] = np.inf
+        out[s, 1] = np.nan
+        out[s, 2] = np.nan
+        return
+    top = x_top[s]
+    x_m = min(top, x_switch)
+    i1 = 0.0
+    i2 = 0.0
+    i3 = 0.0
+    shared = x_m == x_switch
+    for i in range(log_t.shape[0]):
+        xi = x_m * log_t[i]
+        wq = x_m * log_q[i] * (log_w[i] if shared else _weight(xi))
+        a1, a2, a3 = _terms(r, nn, xi, wq)
+        i1 += a1
+        i2 += a2
+        i3 += a3
+    if top > x_m:
+        n_lin = int(np.ceil((top - x_m) / lin_width - 1e-12))
+        h = (top - x_m) / n_lin
+        for p in range(n_lin):
+            a = x_m + p * h
+            for i in range(lin_t.shape[0]):
+                xi = a + 0.5 * h * (lin_t[i] + 1.0)
+                wq = 0.5 * h * lin_q[i] * _weight(xi)
+                a1, a2, a3 = _terms(r, nn, xi, wq)
+                i1 += a1
+                i2 += a2
+                i3 += a3
+    i1, i2, i3 = _small_x(r, nn, x_m * eps_low, bt, bq, i1, i2, i3)
+    out[s, 0] = i1
+    out[s, 1] = i2
+    out[s, 2] = i3
+
+
 @njit(cache=True, parallel=True, fastmath=_FAST, error_model=_NP)
 def callaway_integrals_free(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q, x_switch,
                             eps_low, lin_width, bt, bq, out):  # pragma: no cover - compiled
@@ -146,44 +202,19 @@ def callaway_integrals_free(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q, 
     common case x_m = x_switch), ``lin_t, lin_q`` Gauss–Legendre nodes and weights on [−1, 1]
     for the linear panels.
     """
-    n_samples = x_top.shape[0]
-    for s in prange(n_samples):
-        r = res[s]
-        nn = nrm[s]
-        if not (r[0] > 0.0 or r[1] > 0.0 or r[2] > 0.0):  # I₁ diverges at x → 0
-            out[s, 0] = np.inf
-            out[s, 1] = np.nan
-            out[s, 2] = np.nan
-            continue
-        top = x_top[s]
-        x_m = min(top, x_switch)
-        i1 = 0.0
-        i2 = 0.0
-        i3 = 0.0
-        shared = x_m == x_switch
-        for i in range(log_t.shape[0]):
-            xi = x_m * log_t[i]
-            wq = x_m * log_q[i] * (log_w[i] if shared else _weight(xi))
-            a1, a2, a3 = _terms(r, nn, xi, wq)
-            i1 += a1
-            i2 += a2
-            i3 += a3
-        if top > x_m:
-            n_lin = int(np.ceil((top - x_m) / lin_width - 1e-12))
-            h = (top - x_m) / n_lin
-            for p in range(n_lin):
-                a = x_m + p * h
-                for i in range(lin_t.shape[0]):
-                    xi = a + 0.5 * h * (lin_t[i] + 1.0)
-                    wq = 0.5 * h * lin_q[i] * _weight(xi)
-                    a1, a2, a3 = _terms(r, nn, xi, wq)
-                    i1 += a1
-                    i2 += a2
-                    i3 += a3
-        i1, i2, i3 = _small_x(r, nn, x_m * eps_low, bt, bq, i1, i2, i3)
-        out[s, 0] = i1
-        out[s, 1] = i2
-        out[s, 2] = i3
+    for s in prange(x_top.shape[0]):
+        _own_rule_sample(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q, x_switch, eps_low,
+                         lin_width, bt, bq, out, s)
+
+
+@njit(cache=True, fastmath=_FAST, error_model=_NP)
+def callaway_integrals_free_serial(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q,
+                                   x_switch, eps_low, lin_width, bt, bq,
+                                   out):  # pragma: no cover - compiled
+    """:func:`callaway_integrals_free` in one thread (small problems)."""
+    for s in range(x_top.shape[0]):
+        _own_rule_sample(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q, x_switch, eps_low,
+                         lin_width, bt, bq, out, s)
 
 
 @njit(cache=True, parallel=True, fastmath=_FAST, error_model=_NP)
