@@ -127,17 +127,10 @@ def fit_command(
 
 
 def _load_series(path: Path, nan: str):
-    import yaml
-
-    from kappa.errors import ConfigError
+    from kappa.io.yamlfile import load_yaml
     from kappa.workflows.fit import series_from_dict
 
-    try:
-        data = yaml.safe_load(path.read_text(encoding="utf-8"))
-    except yaml.YAMLError as exc:
-        mark = getattr(exc, "problem_mark", None)
-        where = f" at line {mark.line + 1}" if mark else ""
-        raise ConfigError(str(path), allowed=f"not valid YAML{where}") from None
+    data = load_yaml(path, what="series file")
     loaded = series_from_dict(data, path.parent, nan=nan)
     return (list(loaded.samples), list(loaded.shared), list(loaded.per_sample),
             dict(loaded.bounds), [path, *loaded.files])

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import sys
 import time
 from pathlib import Path
 from typing import Annotated
@@ -38,31 +37,6 @@ Sweeps above 10^8 points need --yes.
 
 {common.CAUTION}
 """
-
-
-class _Bar:
-    """A simple progress bar on stderr, drawn only on a terminal and only after one second."""
-
-    def __init__(self) -> None:
-        self.start = time.perf_counter()
-        self.shown = False
-        self.tty = sys.stderr.isatty()
-
-    def __call__(self, done: int, total: int) -> None:
-        if not self.tty or total <= 0:
-            return
-        elapsed = time.perf_counter() - self.start
-        if elapsed < 1.0 and not self.shown:
-            return
-        self.shown = True
-        frac = done / total
-        width = 30
-        fill = int(round(frac * width))
-        sys.stderr.write(f"\rsweep [{'#' * fill}{'.' * (width - fill)}] {100 * frac:5.1f} % "
-                         f"{elapsed:6.1f} s")
-        if done >= total:
-            sys.stderr.write("\n")
-        sys.stderr.flush()
 
 
 def write_csv(path: Path, columns: list[tuple[str, np.ndarray]], block: int = 200_000) -> None:
@@ -130,7 +104,7 @@ def sweep_command(
     check_out(out, force=force, inputs=[config])
 
     t0 = time.perf_counter()
-    result = sweep(cfg, axes, T, progress=_Bar())
+    result = sweep(cfg, axes, T, progress=common.Bar("sweep"))
     elapsed = time.perf_counter() - t0
 
     from kappa.presentation.style import save

@@ -13,24 +13,25 @@ the reduced frequency x, rates in 1/s). The piece [0, x_s] below the rule is add
 from __future__ import annotations
 
 import numpy as np
-from numba import njit, prange
+
+from kappa.core.jit import jit, prange
 
 __all__ = ["callaway_integrals", "callaway_integrals_free"]
 
 # fastmath flags: reassociation lets the sums vectorise; no 'nnan'/'ninf' so that a NaN from bad
-# input would still show. cache=True: compiled once per machine, then loaded from __pycache__.
+# input would still show. Compiled once per machine, then loaded from the cache (kappa.core.jit).
 _FAST = {"reassoc", "contract", "arcp", "nsz"}
 
 _TAIL_TOL = 1e-10  # stop the small-x blocks when x·f(x) at the block's end is below this × total
 _MAX_BLOCKS = 38  # 38 blocks of 8 decades reach below the smallest double
 
 
-@njit(cache=True, fastmath=_FAST)
+@jit(fastmath=_FAST)
 def _poly(c, x):  # pragma: no cover - compiled
     return c[0] + x * (c[1] + x * (c[2] + x * (c[3] + x * c[4])))
 
 
-@njit(cache=True, fastmath=_FAST)
+@jit(fastmath=_FAST)
 def _terms(r, n, x, w):  # pragma: no cover - compiled
     rr = _poly(r, x)
     rn = _poly(n, x)
@@ -38,7 +39,7 @@ def _terms(r, n, x, w):  # pragma: no cover - compiled
     return tc, tc * rn, tc * rn * rr
 
 
-@njit(cache=True)
+@jit()
 def _small_x(r, n, xs, bt, bq, i1, i2, i3):  # pragma: no cover - compiled
     """Add ∫₀^{x_s} to (i1, i2, i3); w(x) = x²(1 − x²/12) holds to double precision there."""
     lo = xs
@@ -59,7 +60,7 @@ def _small_x(r, n, xs, bt, bq, i1, i2, i3):  # pragma: no cover - compiled
     return i1, i2, i3
 
 
-@njit(cache=True, parallel=True, fastmath=_FAST)
+@jit(parallel=True, fastmath=_FAST)
 def callaway_integrals(x, wq, count, x_s, grid, res, nrm, bt, bq, out):  # pragma: no cover
     """Fill ``out[s] = (I₁, I₂, I₃)`` for every sample s.
 
@@ -97,7 +98,7 @@ def callaway_integrals(x, wq, count, x_s, grid, res, nrm, bt, bq, out):  # pragm
         out[s, 2] = i3
 
 
-@njit(cache=True, fastmath=_FAST)
+@jit(fastmath=_FAST)
 def _weight(x):  # pragma: no cover - compiled
     """x⁴eˣ/(eˣ−1)² = x⁴e⁻ˣ/(1−e⁻ˣ)² (x > 0); a series below x = 0.05 (error < 3e-16)."""
     if x < 0.05:
@@ -108,7 +109,7 @@ def _weight(x):  # pragma: no cover - compiled
     return x * x * x * x * em / (d * d)
 
 
-@njit(cache=True, parallel=True, fastmath=_FAST)
+@jit(parallel=True, fastmath=_FAST)
 def callaway_integrals_free(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q, x_switch,
                             eps_low, lin_width, bt, bq, out):  # pragma: no cover - compiled
     """As :func:`callaway_integrals`, but builds each sample's rule on the fly.

@@ -20,6 +20,13 @@ Because the errors are systematic, the marginal interval at each temperature is 
 per-row model would give as well, but quantities that compare temperatures (the bipolar excess)
 see correlated errors, as they should.
 
+Memory and time: the draws of the relative errors (4 x draws numbers) are made once, in the
+same order as always; the rows are then processed in chunks of at most
+:data:`CHUNK_VALUES` (row, draw) values, so memory does not grow with rows x draws (10^6 rows
+x 2,000 draws run in well under 1 GB). The bipolar check first computes its per-draw fit from
+the window rows, then streams the rows like the rest. Draws are limited to
+:data:`DRAW_RANGE`; the scattering exponent to :data:`EXPONENT_RANGE`.
+
 Bipolar check
 -------------
 kappa_L = A/T + B is fitted (least squares in 1/T) on a low-temperature window: given, or
@@ -35,7 +42,7 @@ E_g = 2 e |S|_max T_max is reported with its caveat.
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -52,15 +59,26 @@ from kappa.core.electronic import (
 )
 from kappa.core.limits import cahill_minimum
 from kappa.errors import DataError, warn
-from kappa.workflows.measurements import Measurements, measurements_from_arrays
+from kappa.workflows.measurements import PLAUSIBLE, Measurements, measurements_from_arrays
 
 __all__ = ["split", "split_measurements", "SplitResult", "BipolarCheck",
-           "DEFAULT_UNCERTAINTY", "UNCERTAINTY_KEYS", "INTERVAL"]
+           "DEFAULT_UNCERTAINTY", "UNCERTAINTY_KEYS", "INTERVAL", "DRAW_RANGE",
+           "EXPONENT_RANGE", "CHUNK_VALUES"]
 
 #: Default relative uncertainties (Alleno et al., Rev. Sci. Instrum. 86, 011301 (2015)).
 DEFAULT_UNCERTAINTY: dict[str, float] = {"kappa": 0.11, "sigma": 0.08, "S": 0.06, "L": 0.0}
-#: Accepted keys of the uncertainty mapping (``resistivity`` is an alias of ``sigma``).
+#: Accepted keys of the uncertainty mapping (``resistivity`` and ``electrical_conductivity``
+#: are aliases of ``sigma``, the electrical conductivity as in the CSV column names).
 UNCERTAINTY_KEYS: tuple[str, ...] = ("kappa", "sigma", "resistivity", "S", "L")
+_SIGMA_ALIASES = ("resistivity", "electrical_conductivity")
+#: Allowed number of Monte Carlo draws (fewer gives noisy bands; more only costs time).
+DRAW_RANGE: tuple[int, int] = (100, 100_000)
+#: Allowed scattering exponent lambda of the single-parabolic-band Lorenz number
+#: (tau ~ E^(lambda - 1/2)): the tables of Fermi-Dirac integrals are accurate there
+#: (0 acoustic phonons, 1 polar optical, 2 ionized impurities).
+EXPONENT_RANGE: tuple[float, float] = (-0.9, 4.0)
+#: Most (row, draw) values the Monte Carlo holds at once per array.
+CHUNK_VALUES: int = 1_000_000
 #: Probability content of the reported interval (+-1 sigma of a Gaussian).
 INTERVAL: float = math.erf(1.0 / math.sqrt(2.0))
 
@@ -124,9 +142,9 @@ class SplitResult:
 
     Attributes
     ----------
-    T : numpy.ndarray
+    temperature : numpy.ndarray
         Temperature [K].
-    kappa, sigma : numpy.ndarray
+    kappa, electrical_conductivity : numpy.ndarray
         Total thermal conductivity [W/(m K)] and electrical conductivity [S/m] (nominal).
     seebeck : numpy.ndarray or None
         Seebeck coefficient [V/K].
@@ -166,9 +184,9 @@ class SplitResult:
     notes : tuple of str
     """
 
-    T: np.ndarray
+    temperature: np.ndarray
     kappa: np.ndarray
-    sigma: np.ndarray
+    electrical_conductivity: np.ndarray
     seebeck: np.ndarray | None
     lorenz_model: str
     scattering_exponent: float
@@ -202,13 +220,13 @@ class SplitResult:
 def _resolve_uncertainty(uncertainty: Mapping[str, float] | None) -> dict[str, float]:
     out = dict(DEFAULT_UNCERTAINTY)
     for key, value in (uncertainty or {}).items():
-        if key not in UNCERTAINTY_KEYS:
+        if key not in UNCERTAINTY_KEYS and key not in _SIGMA_ALIASES:
             raise DataError("uncertainty", key, f"keys allowed: {', '.join(UNCERTAINTY_KEYS)}")
         v = float(value)
         if not (0.0 <= v <= 0.5):
             raise DataError(f"uncertainty {key}", value,
                             "a relative uncertainty between 0 and 0.5 (e.g. 0.08 for 8 %)")
-        out["sigma" if key == "resistivity" else key] = v
+        out["sigma" if key in _SIGMA_ALIASES else key] = v
     if max(out.values()) > 0.25:
         warn("relative uncertainties above 25 % make Gaussian draws near zero or negative "
              "likely; the intervals are then only indicative")
@@ -237,25 +255,161 @@ def _auto_window(T: np.ndarray, kappa_L: np.ndarray) -> np.ndarray:
     return idx
 
 
-def _bipolar(T: np.ndarray, kappa_L: np.ndarray, kappa_L_draws: np.ndarray,
-             seebeck: np.ndarray | None, fit_window: tuple[float, float] | None
-             ) -> BipolarCheck:
+def _check_run(draws: object, seed: object, scattering_exponent: object) -> tuple[int, int, float]:
+    """Validate the Monte Carlo settings and the scattering exponent."""
+    low, high = DRAW_RANGE
+    if isinstance(draws, bool) or not isinstance(draws, (int, np.integer)) \
+            or not low <= int(draws) <= high:
+        raise DataError("draws", draws, f"a whole number of Monte Carlo draws from {low:,} to "
+                        f"{high:,}")
+    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or int(seed) < 0:
+        raise DataError("seed", seed, "a whole number >= 0 (the same seed gives the same draws)")
+    lam = float(scattering_exponent)  # type: ignore[arg-type]
+    lo, hi = EXPONENT_RANGE
+    if not (lo <= lam <= hi):
+        raise DataError("scattering_exponent", scattering_exponent,
+                        f"from {lo:g} to {hi:g} (lambda in tau ~ E^(lambda-1/2): 0 acoustic "
+                        "phonons, 1 polar optical, 2 ionized impurities)")
+    return int(draws), int(seed), lam
+
+
+def _temperatures(T: np.ndarray, shown: int = 8) -> str:
+    """``300 K, 325 K, ...`` with at most ``shown`` values, then how many more."""
+    text = ", ".join(f"{t:g} K" for t in T[:shown])
+    return text + (f" and {T.size - shown} more" if T.size > shown else "")
+
+
+def _window(T: np.ndarray, kappa_L: np.ndarray,
+            fit_window: tuple[float, float] | None) -> np.ndarray:
     if fit_window is None:
-        window = _auto_window(T, kappa_L)
-    else:
-        lo, hi = float(fit_window[0]), float(fit_window[1])
-        if not lo < hi:
-            raise DataError("fit_window", f"{lo:g} K:{hi:g} K", "the lower end must be below "
-                            "the upper end, e.g. 300K:450K")
-        tol = 1e-9 * hi
-        window = (T >= lo - tol) & (T <= hi + tol)
-        if window.sum() < 3:
-            raise DataError("fit_window", f"{lo:g} K:{hi:g} K",
-                            f"contains {int(window.sum())} rows of the data; needs at least 3 "
-                            f"(data span {T[0]:g} K to {T[-1]:g} K)")
+        return _auto_window(T, kappa_L)
+    lo, hi = float(fit_window[0]), float(fit_window[1])
+    shown = f"{lo:g} K:{hi:g} K"
+    if not lo < hi:
+        raise DataError("fit_window", shown, "the lower end must be below the upper end, "
+                        "e.g. 300K:450K")
+    tol = 1e-9 * float(np.max(T))
+    window = (T >= lo - tol) & (T <= hi + tol)
+    if window.sum() < 3:
+        raise DataError("fit_window", shown,
+                        f"contains {int(window.sum())} rows of the data; needs at least 3 "
+                        f"(data span {T[0]:g} K to {T[-1]:g} K)")
+    return window
+
+
+class _Draws:
+    """The Monte Carlo of the split, evaluated for any subset of rows.
+
+    The relative errors (one per quantity and draw, shared by all temperatures) are drawn once;
+    :meth:`rows` returns the per-draw arrays (rows, draws) of the rows asked for, computed with
+    exactly the same arithmetic for every row whichever subset it is in.
+    """
+
+    def __init__(self, m: Measurements, model: str | float, L: np.ndarray, lam: float,
+                 u: Mapping[str, float], draws: int, seed: int) -> None:
+        rng = np.random.default_rng(seed)
+        z = rng.standard_normal((4, draws))
+        self.f_k, self.f_s, self.f_S, self.f_L = (
+            (1.0 + u[key] * z[i])[None, :] for i, key in enumerate(("kappa", "sigma", "S", "L")))
+        self.m, self.model, self.L, self.lam = m, model, L, lam
+
+    def rows(self, idx: slice | np.ndarray, *, zT: bool = True) -> dict[str, np.ndarray]:
+        m = self.m
+        T = m.temperature[idx][:, None]
+        kappa_d = m.kappa[idx][:, None] * self.f_k
+        sigma_d = m.electrical_conductivity[idx][:, None] * self.f_s
+        S_d = None if m.seebeck is None else np.abs(m.seebeck[idx])[:, None] * self.f_S
+        if self.model == "spb":
+            L_d = lorenz_spb(S_d, self.lam)
+        elif self.model == "kim":
+            L_d = lorenz_kim(S_d)
+        else:
+            L_d = np.broadcast_to(self.L[idx][:, None], kappa_d.shape)
+        L_d = L_d * self.f_L
+        kappa_e_d = L_d * sigma_d * T
+        out = {"L": L_d, "kappa_e": kappa_e_d, "kappa_L": kappa_d - kappa_e_d}
+        if S_d is not None and zT:
+            out["zT"] = S_d**2 * sigma_d * T / kappa_d
+        return out
+
+
+def _chunks(n: int, draws: int) -> list[slice]:
+    step = max(1, CHUNK_VALUES // draws)
+    return [slice(a, min(n, a + step)) for a in range(0, n, step)]
+
+
+_QS = [(1.0 - INTERVAL) / 2.0, (1.0 + INTERVAL) / 2.0]
+
+
+def _intervals(mc: _Draws, n: int, draws: int, bipolar: tuple[np.ndarray, np.ndarray] | None,
+               progress: Callable[[int, int], None] | None) -> dict[str, np.ndarray]:
+    """68 % intervals (low, high) per row of every Monte Carlo quantity, chunk by chunk.
+
+    ``bipolar`` = (X, coef_d): the design matrix [1/T, 1] of all rows and the per-draw A/T + B
+    coefficients (2, draws); then the half width of the interval of the excess is returned as
+    ``mc``.
+    """
+    out: dict[str, np.ndarray] = {}
+    for chunk in _chunks(n, draws):
+        d = mc.rows(chunk)
+        if bipolar is not None:
+            X, coef_d = bipolar
+            q_lo, q_hi = np.quantile(d["kappa_L"] - X[chunk] @ coef_d, _QS, axis=1)
+            out.setdefault("mc", np.empty(n))[chunk] = 0.5 * (q_hi - q_lo)
+        for key, values in d.items():
+            lo, hi = np.quantile(values, _QS, axis=1)
+            out.setdefault(key + "_lo", np.empty(n))[chunk] = lo
+            out.setdefault(key + "_hi", np.empty(n))[chunk] = hi
+        del d
+        if progress is not None:
+            progress(chunk.stop, n)
+    return out
+
+
+def _window_fits(mc: _Draws, X: np.ndarray, window: np.ndarray, draws: int) -> np.ndarray:
+    """A and B of kappa_L = A/T + B fitted on the window rows of every draw: (2, draws).
+
+    One product pinv(X_w) @ kappa_L_draws when the window fits in one chunk; otherwise the
+    same sum accumulated chunk by chunk (equal to rounding).
+    """
+    rows = np.flatnonzero(window)
+    pinv = np.linalg.pinv(X[window])  # (2, rows)
+    if rows.size * draws <= CHUNK_VALUES:
+        return pinv @ mc.rows(rows, zT=False)["kappa_L"]
+    coef = np.zeros((2, draws))
+    for chunk in _chunks(rows.size, draws):
+        coef += pinv[:, chunk] @ mc.rows(rows[chunk], zT=False)["kappa_L"]
+    return coef
+
+
+def _gap(T: np.ndarray, seebeck: np.ndarray | None):
+    """Goldsmid-Sharp estimate: (|S|max, T at max, gap [J] or None, note)."""
+    if seebeck is None:
+        return None, None, None, "no Seebeck data"
+    a = np.abs(seebeck)
+    i = int(np.argmax(a))
+    s_max, t_max = float(a[i]), float(T[i])
+    limit = PLAUSIBLE["S"][1]
+    if s_max > limit:
+        return s_max, t_max, None, (f"not estimated: |S|max = {s_max * 1e6:.4g} uV/K is above "
+                                    f"{limit * 1e6:,.0f} uV/K, more than solids show (is the "
+                                    "unit of S right?)")
+    if i == 0:
+        return s_max, t_max, None, ("|S| falls from the lowest temperature on: no maximum, no "
+                                    "gap estimate")
+    gap = goldsmid_sharp_gap(s_max, t_max)
+    if i == T.size - 1:
+        return s_max, t_max, gap, ("|S| still rises at the highest temperature: the gap is at "
+                                   "least this large (a lower bound)")
+    return s_max, t_max, gap, ("rough estimate: assumes similar majority and minority weighted "
+                               "mobilities and non-degenerate carriers; can be off by about 2x "
+                               "otherwise")
+
+
+def _bipolar(T: np.ndarray, kappa_L: np.ndarray, window: np.ndarray, coef: np.ndarray,
+             mc_err: np.ndarray, seebeck: np.ndarray | None, auto: bool) -> BipolarCheck:
     X = np.column_stack([1.0 / T, np.ones_like(T)])
     Xw = X[window]
-    coef, *_ = np.linalg.lstsq(Xw, kappa_L[window], rcond=None)
     fit = X @ coef
     excess = kappa_L - fit
     k = int(window.sum())
@@ -263,41 +417,21 @@ def _bipolar(T: np.ndarray, kappa_L: np.ndarray, kappa_L_draws: np.ndarray,
     s2 = float(resid @ resid) / (k - 2) if k > 2 else 0.0
     cov = np.linalg.inv(Xw.T @ Xw)
     pred = np.sqrt(s2 * (1.0 + np.einsum("ij,jk,ik->i", X, cov, X)))
-    # Monte Carlo: the same fit on every draw (correlated errors largely cancel in the excess)
-    coef_d = np.linalg.pinv(Xw) @ kappa_L_draws[:, window].T  # (2, draws)
-    excess_d = kappa_L_draws - (X @ coef_d).T
-    q_lo, q_hi = np.quantile(excess_d, [(1 - INTERVAL) / 2, (1 + INTERVAL) / 2], axis=0)
-    mc = 0.5 * (q_hi - q_lo)
-    err = np.sqrt(mc**2 + pred**2)
-    above_window = T > T[window][-1]
+    err = np.sqrt(mc_err**2 + pred**2)
+    last = int(np.flatnonzero(window)[-1])
+    above_window = T > T[last]
     exceeds = (excess > err) & above_window
-    onset = None
+    # onset: the first row above the window from which every row exceeds the extrapolation
+    all_after = np.logical_and.accumulate(exceeds[::-1])[::-1]
+    start = np.flatnonzero(above_window & all_after)
+    onset = float(T[start[0]]) if start.size else None
     bip = np.zeros(T.size, dtype=bool)
-    cand = np.flatnonzero(above_window)
-    for i in cand:
-        if np.all(exceeds[i:]):
-            onset = float(T[i])
-            bip[i:] = True
-            break
-    s_max = t_max = gap = None
-    note = "no Seebeck data"
-    if seebeck is not None:
-        a = np.abs(seebeck)
-        i = int(np.argmax(a))
-        s_max, t_max = float(a[i]), float(T[i])
-        if i == T.size - 1:
-            gap = goldsmid_sharp_gap(s_max, t_max)
-            note = ("|S| still rises at the highest temperature: the gap is at least this "
-                    "large (a lower bound)")
-        elif i == 0:
-            note = "|S| falls from the lowest temperature on: no maximum, no gap estimate"
-        else:
-            gap = goldsmid_sharp_gap(s_max, t_max)
-            note = ("rough estimate: assumes similar majority and minority weighted mobilities "
-                    "and non-degenerate carriers; can be off by about 2x otherwise")
+    if start.size:
+        bip[start[0]:] = True
+    s_max, t_max, gap, note = _gap(T, seebeck)
     return BipolarCheck(
         fit_window=(float(T[window][0]), float(T[window][-1])),
-        window_auto=fit_window is None, coefficients=(float(coef[0]), float(coef[1])),
+        window_auto=auto, coefficients=(float(coef[0]), float(coef[1])),
         kappa_L_fit=fit, excess=excess, excess_err=err, onset=onset, bipolar=bip,
         seebeck_max=s_max, temperature_at_seebeck_max=t_max, gap=gap, gap_note=note,
     )
@@ -308,22 +442,25 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
                        uncertainty: Mapping[str, float] | None = None, draws: int = 2000,
                        seed: int = 0, fit_window: tuple[float, float] | None = None,
                        number_density: float | None = None,
-                       sound_velocities: Sequence[float] | None = None) -> SplitResult:
-    """Split validated :class:`~kappa.measurements.Measurements` (see :func:`split`)."""
+                       sound_velocities: Sequence[float] | None = None,
+                       progress: Callable[[int, int], None] | None = None) -> SplitResult:
+    """Split validated :class:`~kappa.workflows.measurements.Measurements` (see :func:`split`).
+
+    ``progress(done, total)``, if given, is called after each chunk of rows of the Monte
+    Carlo (``total`` = number of rows).
+    """
     m = measurements
     model = _lorenz_name(lorenz)
     if m.seebeck is None and model in ("spb", "kim"):
         raise DataError("S", "missing", f"a Seebeck column 'S [uV/K]' is needed for lorenz "
                         f"{model}; or choose degenerate, nondegenerate or a number")
     u = _resolve_uncertainty(uncertainty)
-    draws = int(draws)
-    if draws < 100:
-        raise DataError("draws", draws, "at least 100 Monte Carlo draws")
+    draws, seed, lam = _check_run(draws, seed, scattering_exponent)
     if (number_density is None) != (sound_velocities is None):
         raise DataError("number_density/sound_velocities", "only one given",
                         "give both for the Cahill minimum, or neither")
-    T, kappa, sigma, S = m.T, m.kappa, m.sigma, m.seebeck
-    lam = float(scattering_exponent)
+    T, kappa, sigma, S = m.temperature, m.kappa, m.electrical_conductivity, m.seebeck
+    n = T.size
     notes: list[str] = []
     cites = [CITATIONS["wf"], CITATIONS["alleno"]]
 
@@ -344,36 +481,22 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
     zT = figure_of_merit(S, sigma, kappa, T) if S is not None else None
 
     # --- Monte Carlo (one relative error per quantity and draw, all temperatures) -------------
-    rng = np.random.default_rng(seed)
-    z = rng.standard_normal((4, draws))
-    f_k, f_s, f_S, f_L = ((1.0 + u[key] * z[i])[:, None]
-                          for i, key in enumerate(("kappa", "sigma", "S", "L")))
-    kappa_d = kappa[None, :] * f_k
-    sigma_d = sigma[None, :] * f_s
-    S_d = None if S is None else np.abs(S)[None, :] * f_S
-    if model == "spb":
-        L_d = lorenz_spb(S_d, lam)
-    elif model == "kim":
-        L_d = lorenz_kim(S_d)
-    else:
-        L_d = np.broadcast_to(L, kappa_d.shape)
-    L_d = L_d * f_L
-    kappa_e_d = L_d * sigma_d * T[None, :]
-    kappa_L_d = kappa_d - kappa_e_d
-    qs = [(1.0 - INTERVAL) / 2.0, (1.0 + INTERVAL) / 2.0]
-    L_lo, L_hi = np.quantile(L_d, qs, axis=0)
-    ke_lo, ke_hi = np.quantile(kappa_e_d, qs, axis=0)
-    kl_lo, kl_hi = np.quantile(kappa_L_d, qs, axis=0)
-    zt_lo = zt_hi = None
-    if S is not None:
-        zT_d = S_d**2 * sigma_d * T[None, :] / kappa_d
-        zt_lo, zt_hi = np.quantile(zT_d, qs, axis=0)
+    mc = _Draws(m, model, L, lam, u, draws, seed)
+    check = n >= 5 or fit_window is not None
+    bipolar_draws = None
+    if check:
+        window = _window(T, kappa_L, fit_window)
+        X = np.column_stack([1.0 / T, np.ones_like(T)])
+        coef, *_ = np.linalg.lstsq(X[window], kappa_L[window], rcond=None)
+        # the same fit on every draw (correlated errors largely cancel in the excess)
+        bipolar_draws = (X, _window_fits(mc, X, window, draws))
+    q = _intervals(mc, n, draws, bipolar_draws, progress)
 
     # --- flags -----------------------------------------------------------------------------
     nonpositive = kappa_L <= 0
     if nonpositive.any():
-        temps = ", ".join(f"{t:g} K" for t in T[nonpositive])
-        warn(f"kappa_L <= 0 at {temps}: the Lorenz number or the data are inconsistent there")
+        warn(f"kappa_L <= 0 at {_temperatures(T[nonpositive])}: the Lorenz number or the data "
+             "are inconsistent there")
     kappa_min = below = None
     if number_density is not None:
         try:
@@ -384,48 +507,49 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
         below = kappa_L < kappa_min
         cites.append(CITATIONS["cahill"])
         if below.any():
-            temps = ", ".join(f"{t:g} K" for t in T[below])
-            warn(f"kappa_L below the Cahill minimum at {temps}: check the Lorenz number, "
-                 "the data, or the minimum's inputs")
+            warn(f"kappa_L below the Cahill minimum at {_temperatures(T[below])}: check the "
+                 "Lorenz number, the data, or the minimum's inputs")
 
     # --- bipolar check ------------------------------------------------------------------------
     bip = None
-    if T.size >= 5 or fit_window is not None:
-        bip = _bipolar(T, kappa_L, kappa_L_d, S, fit_window)
+    if check:
+        bip = _bipolar(T, kappa_L, window, coef, q["mc"], S, fit_window is None)
         if S is not None:
             cites.append(CITATIONS["gs"])
     else:
         notes.append("fewer than 5 rows: bipolar check skipped")
 
+    kl_lo, kl_hi = q["kappa_L_lo"], q["kappa_L_hi"]
     return SplitResult(
-        T=T, kappa=kappa, sigma=sigma, seebeck=S,
+        temperature=T, kappa=kappa, electrical_conductivity=sigma, seebeck=S,
         lorenz_model=model if isinstance(model, str) else "constant",
-        scattering_exponent=lam, lorenz=L, lorenz_low=L_lo, lorenz_high=L_hi,
-        kappa_e=kappa_e, kappa_e_low=ke_lo, kappa_e_high=ke_hi,
+        scattering_exponent=lam, lorenz=L, lorenz_low=q["L_lo"], lorenz_high=q["L_hi"],
+        kappa_e=kappa_e, kappa_e_low=q["kappa_e_lo"], kappa_e_high=q["kappa_e_hi"],
         kappa_L=kappa_L, kappa_L_low=kl_lo, kappa_L_high=kl_hi,
         kappa_L_err=0.5 * (kl_hi - kl_lo),
-        zT=zT, zT_low=zt_lo, zT_high=zt_hi,
+        zT=zT, zT_low=q.get("zT_lo"), zT_high=q.get("zT_hi"),
         kappa_L_degenerate=kappa_L_deg, kappa_L_kim=kappa_L_kim, eta=eta,
         kappa_min=kappa_min, nonpositive=nonpositive, below_minimum=below, bipolar=bip,
-        uncertainty=u, draws=draws, seed=int(seed), citations=tuple(cites),
+        uncertainty=u, draws=draws, seed=seed, citations=tuple(cites),
         notes=tuple(notes),
     )
 
 
-def split(T: ArrayLike, kappa: ArrayLike, sigma: ArrayLike, seebeck: ArrayLike | None = None,
-          *, lorenz: str | float = "spb", scattering_exponent: float = 0.0,
-          uncertainty: Mapping[str, float] | None = None, draws: int = 2000, seed: int = 0,
-          fit_window: tuple[float, float] | None = None, number_density: float | None = None,
-          sound_velocities: Sequence[float] | None = None) -> SplitResult:
+def split(temperature: ArrayLike, kappa: ArrayLike, electrical_conductivity: ArrayLike,
+          seebeck: ArrayLike | None = None, *, lorenz: str | float = "spb",
+          scattering_exponent: float = 0.0, uncertainty: Mapping[str, float] | None = None,
+          draws: int = 2000, seed: int = 0, fit_window: tuple[float, float] | None = None,
+          number_density: float | None = None, sound_velocities: Sequence[float] | None = None,
+          progress: Callable[[int, int], None] | None = None) -> SplitResult:
     """Split total thermal conductivity into electronic and lattice parts (arrays, SI units).
 
     Parameters
     ----------
-    T : array_like
+    temperature : array_like
         Temperature [K], strictly increasing, at least 3 values.
     kappa : array_like
         Total thermal conductivity [W/(m K)], > 0.
-    sigma : array_like
+    electrical_conductivity : array_like
         Electrical conductivity [S/m], >= 0.
     seebeck : array_like, optional
         Seebeck coefficient [V/K] (sign kept for zT, magnitude for L); needed by ``spb`` and
@@ -433,21 +557,25 @@ def split(T: ArrayLike, kappa: ArrayLike, sigma: ArrayLike, seebeck: ArrayLike |
     lorenz : {'spb', 'degenerate', 'nondegenerate', 'kim'} or float
         Lorenz model, or a constant [W Ohm K^-2].
     scattering_exponent : float
-        lambda of tau ~ E^(lambda-1/2) for ``spb``: 0 acoustic phonons (default), 1 polar
-        optical, 2 ionized impurities.
+        lambda of tau ~ E^(lambda-1/2) for ``spb``, within :data:`EXPONENT_RANGE`: 0 acoustic
+        phonons (default), 1 polar optical, 2 ionized impurities.
     uncertainty : mapping, optional
-        Relative 1-sigma uncertainties, keys ``kappa``, ``sigma`` (or ``resistivity``), ``S``,
-        ``L``; missing keys take :data:`DEFAULT_UNCERTAINTY`.
+        Relative 1-sigma uncertainties, keys ``kappa``, ``sigma`` (or ``resistivity``,
+        ``electrical_conductivity``), ``S``, ``L``; missing keys take
+        :data:`DEFAULT_UNCERTAINTY`.
     draws : int
-        Monte Carlo draws (>= 100).
+        Monte Carlo draws, within :data:`DRAW_RANGE` (100 to 100,000).
     seed : int
-        Seed of the random generator (results are reproducible).
+        Seed of the random generator, >= 0 (results are reproducible).
     fit_window : (float, float), optional
-        Temperatures [K] bounding the A/T + B fit of the bipolar check; automatic if None.
+        Temperatures [K] bounding the A/T + B fit of the bipolar check (``-inf``/``inf`` for
+        an open side); automatic if None.
     number_density : float, optional
         Atoms per volume [1/m^3] for the Cahill minimum.
     sound_velocities : sequence of float, optional
         Acoustic velocities [m/s] for the Cahill minimum (1 to 3 values).
+    progress : callable, optional
+        ``progress(done, total)`` after each chunk of rows of the Monte Carlo.
 
     Returns
     -------
@@ -458,13 +586,15 @@ def split(T: ArrayLike, kappa: ArrayLike, sigma: ArrayLike, seebeck: ArrayLike |
     >>> import numpy as np
     >>> from kappa.workflows.split import split
     >>> T = np.array([300.0, 400.0, 500.0])
-    >>> r = split(T, kappa=[1.6, 1.5, 1.5], sigma=[8e4, 6e4, 5e4], seebeck=[180e-6, 200e-6,
-    ...           210e-6], draws=500)
+    >>> r = split(T, kappa=[1.6, 1.5, 1.5], electrical_conductivity=[8e4, 6e4, 5e4],
+    ...           seebeck=[180e-6, 200e-6, 210e-6], draws=500)
     >>> bool(np.all(r.kappa_L < r.kappa))
     True
     """
-    m = measurements_from_arrays(T, kappa=kappa, sigma=sigma, seebeck=seebeck)
+    m = measurements_from_arrays(temperature, kappa=kappa,
+                                 electrical_conductivity=electrical_conductivity,
+                                 seebeck=seebeck)
     return split_measurements(m, lorenz=lorenz, scattering_exponent=scattering_exponent,
                               uncertainty=uncertainty, draws=draws, seed=seed,
                               fit_window=fit_window, number_density=number_density,
-                              sound_velocities=sound_velocities)
+                              sound_velocities=sound_velocities, progress=progress)
