@@ -283,3 +283,35 @@ def test_signal_while_writing_leaves_no_partial_folder(tmp_path, demo, signum, c
     assert demo.read_bytes() == before_inputs
     if existing:
         assert digest(out) == before_out
+
+
+# --- kappa new --------------------------------------------------------------------------------
+
+def test_new_into_a_missing_folder_or_over_a_file(tmp_path):
+    line = one_error(runner.invoke(app, ["new", str(tmp_path / "missing" / "m.yaml")]))
+    assert f"the folder {tmp_path / 'missing'} does not exist" in line
+    existing = tmp_path / "m.yaml"
+    existing.write_text("mine")
+    assert "already exists" in one_error(runner.invoke(app, ["new", str(existing)]))
+    assert "is a folder" in one_error(runner.invoke(app, ["new", str(tmp_path)]))
+    assert existing.read_text() == "mine"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["m.yaml"]
+    result = runner.invoke(app, ["new", str(existing), "--force"])
+    assert result.exit_code == 0 and existing.read_text().startswith("#")
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["m.yaml"]  # no temporary file left
+
+
+@pytest.mark.skipif(hasattr(os, "geteuid") and os.geteuid() == 0,
+                    reason="root ignores file permissions")
+def test_unreadable_input_is_one_line(demo):
+    demo.chmod(0o000)
+    try:
+        result = subprocess.run([sys.executable, "-m", "kappa", "split", str(demo), "-o",
+                                 str(demo.parent / "out")], capture_output=True, text=True,
+                                env=clean_env())
+    finally:
+        demo.chmod(0o644)
+    assert result.returncode == 2
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("error: ") and str(demo.name) in lines[0]
+    assert not (demo.parent / "out").exists()

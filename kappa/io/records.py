@@ -61,7 +61,7 @@ def environment() -> dict[str, str | None]:
     """
     env: dict[str, str | None] = {"kappa": version(), "python": platform.python_version()}
     env.update({name: _distribution_version(name) for name in _LIBRARIES})
-    env["platform"] = platform.platform(terse=True)
+    env["platform"] = f"{platform.system()} {platform.machine()}"
     return env
 
 
