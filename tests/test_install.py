@@ -150,3 +150,14 @@ def test_version_and_help_do_not_load_numba(tmp_path):
                                 text=True, cwd=tmp_path, env=_env())
         assert result.returncode == 0, result.stderr
         assert result.stderr.strip() == "False", (args, result.stderr)
+
+
+def test_cache_folder_choice(tmp_path):
+    code = "from kappa.core.jit import cache_folder; print(cache_folder())"
+    own = _run([sys.executable, "-c", code], tmp_path,
+               _env(KAPPA_CACHE_DIR=str(tmp_path / "k"))).stdout.strip()
+    assert own == str(tmp_path / "k" / "numba")
+    users = _run([sys.executable, "-c", code], tmp_path,
+                 _env(KAPPA_CACHE_DIR=str(tmp_path / "k"),
+                      NUMBA_CACHE_DIR=str(tmp_path / "n"))).stdout.strip()
+    assert users == str(tmp_path / "n")  # a NUMBA_CACHE_DIR set by the user is never overridden

@@ -315,3 +315,27 @@ def test_unreadable_input_is_one_line(demo):
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("error: ") and str(demo.name) in lines[0]
     assert not (demo.parent / "out").exists()
+
+
+def test_safety_net_of_the_entry_point(demo, tmp_path):
+    """An exception escaping outside the command wrapper still ends in one line."""
+    driver = tmp_path / "driver.py"
+    driver.write_text(textwrap.dedent("""
+        import sys
+        import kappa.cli.split as cli_split
+
+        def broken(*args, **kwargs):
+            raise ZeroDivisionError("float division by zero")
+
+        cli_split._run = broken
+        sys.argv = ["kappa", *sys.argv[1:]]
+        from kappa.cli.main import run
+        run()
+    """))
+    result = subprocess.run([sys.executable, str(driver), "split", str(demo), "-o",
+                             str(tmp_path / "out")], capture_output=True, text=True,
+                            env=clean_env())
+    assert result.returncode == 2
+    assert result.stderr.strip().splitlines() == [
+        "error: kappa split stopped: a division by zero (ZeroDivisionError: float division by "
+        "zero); rerun with --debug for the full traceback"]

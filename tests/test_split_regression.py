@@ -89,5 +89,9 @@ def test_progress_reports_every_chunk(monkeypatch):
     monkeypatch.setattr(split_module, "CHUNK_VALUES", 20_000)  # 10 rows per chunk
     T, kappa, sigma, S = _synthetic(95)
     calls = []
-    split(T, kappa, sigma, S, progress=lambda done, total: calls.append((done, total)))
-    assert calls == [(min(95, k), 95) for k in range(10, 101, 10)]
+    r = split(T, kappa, sigma, S, progress=lambda done, total: calls.append((done, total)))
+    lo, hi = r.bipolar.fit_window
+    window = int(np.sum((T >= lo) & (T <= hi)))  # more than one chunk: counted first
+    total = window + 95
+    assert calls == ([(min(window, k), total) for k in range(10, window + 10, 10)]
+                     + [(window + min(95, k), total) for k in range(10, 101, 10)])

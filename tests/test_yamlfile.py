@@ -116,7 +116,7 @@ def test_other_bad_documents(tmp_path, data, fragment):
 
 
 def test_missing_file_and_folder(tmp_path):
-    refused(tmp_path / "nope.yaml", "config file not found")
+    refused(tmp_path / "nope.yaml", "file not found (the config to read)")
     with pytest.raises(ConfigError, match="is a folder"):
         load_yaml(tmp_path)
 

@@ -30,7 +30,8 @@ CAUTION = (
     "by measurement and defer to the applicable codes and licensed engineering practice."
 )
 
-_state: dict[str, Any] = {"debug": False}
+_state: dict[str, Any] = {"debug": False, "depth": 0}
+_printed: set[str] = set()  # warnings printed during the current command
 
 #: Unexpected exceptions the safety net explains in plain words (others by their name).
 _PLAIN = {
@@ -94,6 +95,9 @@ def handles_errors(func: F | None = None, *, command: str | None = None) -> Any:
 
     @functools.wraps(func)
     def wrapper(*args: Any, **kwargs: Any) -> Any:
+        if not _state["depth"]:
+            _printed.clear()  # a new command: its warnings are printed again
+        _state["depth"] += 1
         with collect_warnings() as caught:
             try:
                 return func(*args, **kwargs)
@@ -113,15 +117,13 @@ def handles_errors(func: F | None = None, *, command: str | None = None) -> Any:
                 raise typer.Exit(2) from None
             finally:
                 _flush_warnings(caught)
+                _state["depth"] -= 1
 
     return wrapper
 
 
-_printed: set[str] = set()
-
-
 def show_warning(text: str) -> None:
-    """Print a KappaWarning as ``warning: ...`` on stderr, once per process."""
+    """Print a KappaWarning as ``warning: ...`` on stderr, once per command."""
     if text not in _printed:
         _printed.add(text)
         echo_err(f"warning: {_one_line(text, 2000)}")

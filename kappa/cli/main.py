@@ -90,17 +90,17 @@ def run() -> None:
     except Exception as exc:
         if common.debug():
             raise
+        name = type(exc).__name__
+        if name == "Abort":
+            common.echo_err("aborted")
+            sys.exit(1)
         if not hasattr(exc, "format_message"):  # not a usage error: the safety net
             command = next((a for a in sys.argv[1:] if a in COMMANDS), "")
             common.echo_err(f"error: {common.unexpected_message(command, exc)}")
             sys.exit(2)
-        name = type(exc).__name__
         if name == "NoArgsIsHelpError" or not hasattr(exc, "exit_code"):
             exc.show()  # type: ignore[attr-defined]
             sys.exit(getattr(exc, "exit_code", 2))
-        if name == "Abort":
-            common.echo_err("aborted")
-            sys.exit(1)
         common.echo_err(f"error: {exc.format_message()}")
         sys.exit(exc.exit_code if exc.exit_code else 2)
     if code == 130:

@@ -149,14 +149,17 @@ def _check_expansion(root: yaml.Node | None) -> None:
 
 def _decode(data: bytes, source: str, what: str) -> str:
     """Bytes -> text: UTF-8 (BOM optional), UTF-16 with BOM, else Windows-1252 with a warning."""
+    hint = ", e.g. written by 'kappa new'" if what == "config" else ""
+    binary = ConfigError(source, allowed=f"not a text file (it holds binary data); the {what} "
+                         f"must be YAML text{hint}")
     if data.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
         try:
-            return data.decode("utf-16")
+            text = data.decode("utf-16")
         except UnicodeDecodeError:
-            raise ConfigError(source, allowed=f"not a text file: the {what} must be YAML text "
-                              "(its UTF-16 marker is followed by invalid data)") from None
-    binary = ConfigError(source, allowed=f"not a text file (it holds binary data); the {what} "
-                         "must be YAML text, e.g. written by 'kappa new'")
+            raise binary from None
+        if _CONTROL.search(text):
+            raise binary
+        return text
     if b"\x00" in data:
         raise binary
     try:
@@ -226,7 +229,7 @@ def load_yaml(path: str | Path, *, what: str = "config") -> object:
     path : str or Path
         The file.
     what : str
-        The kind of file, for messages (``config``, ``series file``).
+        What the file is, for messages (``config``, ``series file``).
 
     Returns
     -------
@@ -249,14 +252,14 @@ def load_yaml(path: str | Path, *, what: str = "config") -> object:
         with open(path, "rb") as fh:
             data = fh.read(MAX_BYTES + 1)
     except FileNotFoundError:
-        raise ConfigError(source, allowed=f"{what} file not found") from None
+        raise ConfigError(source, allowed=f"file not found (the {what} to read)") from None
     except IsADirectoryError:
-        raise ConfigError(source, allowed=f"is a folder; give the {what} file") from None
+        raise ConfigError(source, allowed=f"is a folder; give the {what} (a YAML file)") from None
     except OSError as exc:
-        raise ConfigError(source, allowed=f"cannot read the {what} file "
-                          f"({exc.strerror or exc})") from None
+        raise ConfigError(source, allowed=f"cannot read the file ({exc.strerror or exc})"
+                          ) from None
     if len(data) > MAX_BYTES:
         raise ConfigError(source, allowed=f"larger than {MAX_BYTES // 1_000_000} MB; a {what} "
-                          "file holds a few kB (is it the right file?)")
+                          "holds a few kB (is it the right file?)")
     text = _decode(data, source, what)
     return load_yaml_text(text, source=source, what=what)

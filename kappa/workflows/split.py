@@ -255,22 +255,37 @@ def _auto_window(T: np.ndarray, kappa_L: np.ndarray) -> np.ndarray:
     return idx
 
 
+def _whole(value: object) -> int | None:
+    """``value`` as an int if it is a whole number (2000, 2000.0, numpy integers), else None."""
+    if isinstance(value, bool):
+        return None
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)) and float(value).is_integer():
+        return int(value)
+    return None
+
+
 def _check_run(draws: object, seed: object, scattering_exponent: object) -> tuple[int, int, float]:
     """Validate the Monte Carlo settings and the scattering exponent."""
     low, high = DRAW_RANGE
-    if isinstance(draws, bool) or not isinstance(draws, (int, np.integer)) \
-            or not low <= int(draws) <= high:
+    n = _whole(draws)
+    if n is None or not low <= n <= high:
         raise DataError("draws", draws, f"a whole number of Monte Carlo draws from {low:,} to "
                         f"{high:,}")
-    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or int(seed) < 0:
+    s = _whole(seed)
+    if s is None or s < 0:
         raise DataError("seed", seed, "a whole number >= 0 (the same seed gives the same draws)")
-    lam = float(scattering_exponent)  # type: ignore[arg-type]
+    try:
+        lam = float(scattering_exponent)  # type: ignore[arg-type]
+    except (TypeError, ValueError):
+        lam = math.nan
     lo, hi = EXPONENT_RANGE
     if not (lo <= lam <= hi):
         raise DataError("scattering_exponent", scattering_exponent,
                         f"from {lo:g} to {hi:g} (lambda in tau ~ E^(lambda-1/2): 0 acoustic "
                         "phonons, 1 polar optical, 2 ionized impurities)")
-    return int(draws), int(seed), lam
+    return n, s, lam
 
 
 def _temperatures(T: np.ndarray, shown: int = 8) -> str:
@@ -342,7 +357,7 @@ _QS = [(1.0 - INTERVAL) / 2.0, (1.0 + INTERVAL) / 2.0]
 
 
 def _intervals(mc: _Draws, n: int, draws: int, bipolar: tuple[np.ndarray, np.ndarray] | None,
-               progress: Callable[[int, int], None] | None) -> dict[str, np.ndarray]:
+               progress: Callable[[int], None] | None) -> dict[str, np.ndarray]:
     """68 % intervals (low, high) per row of every Monte Carlo quantity, chunk by chunk.
 
     ``bipolar`` = (X, coef_d): the design matrix [1/T, 1] of all rows and the per-draw A/T + B
@@ -362,15 +377,16 @@ def _intervals(mc: _Draws, n: int, draws: int, bipolar: tuple[np.ndarray, np.nda
             out.setdefault(key + "_hi", np.empty(n))[chunk] = hi
         del d
         if progress is not None:
-            progress(chunk.stop, n)
+            progress(chunk.stop)
     return out
 
 
-def _window_fits(mc: _Draws, X: np.ndarray, window: np.ndarray, draws: int) -> np.ndarray:
+def _window_fits(mc: _Draws, X: np.ndarray, window: np.ndarray, draws: int,
+                 progress: Callable[[int], None] | None) -> np.ndarray:
     """A and B of kappa_L = A/T + B fitted on the window rows of every draw: (2, draws).
 
     One product pinv(X_w) @ kappa_L_draws when the window fits in one chunk; otherwise the
-    same sum accumulated chunk by chunk (equal to rounding).
+    same sum accumulated chunk by chunk (equal to rounding). ``progress(rows done)``.
     """
     rows = np.flatnonzero(window)
     pinv = np.linalg.pinv(X[window])  # (2, rows)
@@ -379,6 +395,8 @@ def _window_fits(mc: _Draws, X: np.ndarray, window: np.ndarray, draws: int) -> n
     coef = np.zeros((2, draws))
     for chunk in _chunks(rows.size, draws):
         coef += pinv[:, chunk] @ mc.rows(rows[chunk], zT=False)["kappa_L"]
+        if progress is not None:
+            progress(chunk.stop)
     return coef
 
 
@@ -447,7 +465,8 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
     """Split validated :class:`~kappa.workflows.measurements.Measurements` (see :func:`split`).
 
     ``progress(done, total)``, if given, is called after each chunk of rows of the Monte
-    Carlo (``total`` = number of rows).
+    Carlo (``total`` = the number of rows, plus the rows of the bipolar check's window when
+    that window needs more than one chunk).
     """
     m = measurements
     model = _lorenz_name(lorenz)
@@ -484,13 +503,25 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
     mc = _Draws(m, model, L, lam, u, draws, seed)
     check = n >= 5 or fit_window is not None
     bipolar_draws = None
+    # progress in rows: the window rows of the bipolar check (when they need chunks), then all
+    ahead = 0
     if check:
         window = _window(T, kappa_L, fit_window)
+        if int(window.sum()) * draws > CHUNK_VALUES:
+            ahead = int(window.sum())
+    total = ahead + n
+
+    def report(offset: int) -> Callable[[int], None] | None:
+        if progress is None:
+            return None
+        return lambda done: progress(offset + done, total)
+
+    if check:
         X = np.column_stack([1.0 / T, np.ones_like(T)])
         coef, *_ = np.linalg.lstsq(X[window], kappa_L[window], rcond=None)
         # the same fit on every draw (correlated errors largely cancel in the excess)
-        bipolar_draws = (X, _window_fits(mc, X, window, draws))
-    q = _intervals(mc, n, draws, bipolar_draws, progress)
+        bipolar_draws = (X, _window_fits(mc, X, window, draws, report(0)))
+    q = _intervals(mc, n, draws, bipolar_draws, report(ahead))
 
     # --- flags -----------------------------------------------------------------------------
     nonpositive = kappa_L <= 0
@@ -575,7 +606,8 @@ def split(temperature: ArrayLike, kappa: ArrayLike, electrical_conductivity: Arr
     sound_velocities : sequence of float, optional
         Acoustic velocities [m/s] for the Cahill minimum (1 to 3 values).
     progress : callable, optional
-        ``progress(done, total)`` after each chunk of rows of the Monte Carlo.
+        ``progress(done, total)`` after each chunk of rows of the Monte Carlo (in rows; see
+        :func:`split_measurements`).
 
     Returns
     -------
