@@ -19,7 +19,7 @@ from kappa.core.jit import jit, prange
 __all__ = ["callaway_integrals", "callaway_integrals_free"]
 
 # fastmath flags: reassociation lets the sums vectorise; no 'nnan'/'ninf' so that a NaN from bad
-# input would still show. Compiled once per machine, then loaded from the cache (kappa.core.jit).
+# input would still show. cache=True: compiled once per machine, then loaded from __pycache__.
 _FAST = {"reassoc", "contract", "arcp", "nsz"}
 
 _TAIL_TOL = 1e-10  # stop the small-x blocks when x·f(x) at the block's end is below this × total

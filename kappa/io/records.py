@@ -30,7 +30,7 @@ import numpy as np
 from kappa.errors import KappaWarning
 
 __all__ = ["version", "run_record", "write_json", "dump_yaml", "to_plain", "file_record",
-           "environment", "collect_warnings", "issued_warnings"]
+           "file_records", "environment", "collect_warnings", "issued_warnings"]
 
 #: Distributions whose versions a record names (besides kappa and Python).
 _LIBRARIES = ("numpy", "scipy", "numba")
@@ -80,6 +80,11 @@ def file_record(path: str | Path, *, block: int = 1 << 20) -> dict[str, Any]:
     except OSError as exc:
         return {"path": str(path), "error": f"cannot read ({exc.strerror or exc})"}
     return {"path": str(path), "bytes": size, "sha256": digest.hexdigest()}
+
+
+def file_records(paths: Sequence[str | Path]) -> list[dict[str, Any]]:
+    """:func:`file_record` of every input file, in the order given."""
+    return [file_record(p) for p in paths]
 
 
 @contextlib.contextmanager
@@ -160,7 +165,7 @@ def run_record(command: str, *, inputs: Sequence[str | Path] = (),
         "command": command,
         "argv": ["kappa", *sys.argv[1:]],
         "created": _dt.datetime.now().astimezone().isoformat(timespec="seconds"),
-        "input_files": [file_record(p) for p in inputs],
+        "input_files": file_records(inputs),
         "environment": environment(),
     }
     record.update(sections)
