@@ -161,3 +161,12 @@ def test_cache_folder_choice(tmp_path):
                  _env(KAPPA_CACHE_DIR=str(tmp_path / "k"),
                       NUMBA_CACHE_DIR=str(tmp_path / "n"))).stdout.strip()
     assert users == str(tmp_path / "n")  # a NUMBA_CACHE_DIR set by the user is never overridden
+
+
+def test_every_public_name_resolves():
+    """``import kappa`` is lazy; every name it exports must still be there."""
+    import kappa
+
+    for name in kappa.__all__:
+        assert getattr(kappa, name) is not None, name
+    assert set(kappa.__all__) <= set(dir(kappa))
