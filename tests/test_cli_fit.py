@@ -216,9 +216,14 @@ def test_existing_output_needs_force(tmp_path):
     r = runner.invoke(app, args)
     assert r.exit_code == 2 and "--force" in r.output
     assert (out / "keep.txt").exists()
-    r = runner.invoke(app, [*args, "--force"])
-    assert r.exit_code == 0, r.output
-    assert not (out / "keep.txt").exists() and (out / "fitted.yaml").exists()
+    r = runner.invoke(app, [*args, "--force"])  # --force never deletes files kappa did not write
+    assert r.exit_code == 2 and "holds files kappa did not write (keep.txt)" in r.output
+    assert (out / "keep.txt").exists()
+    (out / "keep.txt").unlink()
+    for _ in range(2):  # an empty folder, then a folder kappa wrote, are replaced
+        r = runner.invoke(app, [*args, "--force"])
+        assert r.exit_code == 0, r.output
+    assert (out / "fitted.yaml").exists()
 
 
 def test_demo_series_example_runs(tmp_path):

@@ -76,14 +76,22 @@ def independent(model):
     return kappa, ke, kappa - ke
 
 
-def test_help_has_examples_and_caution():
+def test_help_has_examples_and_limits():
     result = runner.invoke(app, ["split", "--help"])
     assert result.exit_code == 0
     assert "kappa split flash.csv electrical.csv --composition" in result.output
-    assert "validate them by measurement" in result.output
-    for option in ("--lorenz", "--uncertainty", "--fit-window", "--nan", "--draws", "--seed",
+    assert "--draws 100 to 100,000" in result.output
+    for option in ("--lorenz", "--uncertainty", "--window", "--nan", "--draws", "--seed",
                    "--composition", "--scattering-exponent", "--force", "--out"):
         assert option in result.output
+    assert "--fit-window" not in result.output  # the old name still works, but is not shown
+
+
+def test_caution_only_in_top_level_help(lab_files, tmp_path):
+    result = run(*lab_files, "-o", tmp_path / "o", "--draws", 200)
+    assert result.exit_code == 0, result.output
+    assert "validate them by measurement" not in result.output
+    assert "validate them by measurement" in runner.invoke(app, ["--help"]).output
 
 
 @pytest.mark.parametrize("model", ["degenerate", "kim", "spb"])
@@ -118,8 +126,10 @@ def test_outputs_and_run_record(lab_files, tmp_path):
     half = 0.5 * (t.get("kappa_L_high", "W/(m K)") - t.get("kappa_L_low", "W/(m K)"))
     np.testing.assert_allclose(err, half, rtol=1e-6)
     rec = json.loads((out / "run.json").read_text())
-    assert rec["command"] == "split" and rec["inputs"]["seed"] == 5
-    assert rec["inputs"]["uncertainty"] == {"kappa": 0.11, "sigma": 0.08, "S": 0.06, "L": 0.0}
+    assert rec["command"] == "split" and rec["options"]["seed"] == 5
+    assert rec["options"]["uncertainty"] == {"kappa": 0.11, "sigma": 0.08, "S": 0.06, "L": 0.0}
+    assert [f["path"] for f in rec["input_files"]] == [str(p) for p in lab_files]
+    assert rec["output_files"].keys() == {"split.csv", "split.png", "split.svg"}
     assert any("Kim" in c for c in rec["citations"])
     assert "T [K]" in result.output and "Lorenz model: spb" in result.output
 
@@ -181,9 +191,11 @@ BAD_FILES = [
     (GOOD, ["--lorenz", "2.0"], "--lorenz = 2.0: spb"),
     (GOOD, ["--uncertainty", "kapa=0.1"], "--uncertainty = kapa=0.1: did you mean 'kappa'? comma-separated"),
     (GOOD, ["--uncertainty", "kappa=2"], "--uncertainty = kappa=2: a relative uncertainty"),
-    (GOOD, ["--fit-window", "300K-450K"], "--fit-window = 300K-450K: two temperatures"),
-    (GOOD, ["--fit-window", "450K:300K"], "LOW must be below HIGH"),
-    (GOOD, ["--fit-window", "300K:330K"], "fit_window = 300 K:330 K: contains 1 rows"),
+    (GOOD, ["--window", "300K-450K"], "--window = 300K-450K: LOW:HIGH with temperatures"),
+    (GOOD, ["--window", "450K:300K"], "the lower temperature must be below the upper one"),
+    (GOOD, ["--window", "300K:330K"], "--window = 300 K:330 K: contains 1 rows"),
+    (GOOD, ["--fit-window", "300K:330K"], "--window = 300 K:330 K: contains 1 rows"),
+    (GOOD, ["--window", "300K:", "--fit-window", "300K:"], "give --window once"),
     (GOOD, ["--nan", "drop"], "--nan = drop: raise or omit"),
     (GOOD, ["--composition", "Xy2Te3"], "--composition = Xy2Te3: unknown element symbol 'Xy'"),
     (GOOD, ["--scattering-exponent", "-2"], "--scattering-exponent = -2"),

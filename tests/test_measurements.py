@@ -4,7 +4,8 @@ import numpy as np
 import pytest
 
 from kappa.errors import DataError, KappaWarning
-from kappa.workflows.measurements import measurements_from_arrays, read_measurements
+from kappa.io.measurements import read_measurements
+from kappa.workflows.measurements import measurements_from_arrays
 
 
 def write(tmp_path, name, text):
@@ -33,8 +34,8 @@ def test_conductivity_units_agree(tmp_path):
               "300,20,10,-0.150\n400,20,10,-0.160\n500,20,10,-0.170\n")
     ma, mb, mc = (read_measurements(p) for p in (a, b, c))
     for m in (ma, mb, mc):
-        np.testing.assert_allclose(m.T, [300, 400, 500], rtol=1e-12)
-        np.testing.assert_allclose(m.sigma, 1e5, rtol=1e-12)
+        np.testing.assert_allclose(m.temperature, [300, 400, 500], rtol=1e-12)
+        np.testing.assert_allclose(m.electrical_conductivity, 1e5, rtol=1e-12)
         np.testing.assert_allclose(m.seebeck, [-150e-6, -160e-6, -170e-6], rtol=1e-12)
         np.testing.assert_allclose(m.kappa, 2.0, rtol=1e-12)
 
@@ -45,8 +46,8 @@ def test_merge_two_files_interpolates_and_drops_outside(tmp_path):
     elec = write(tmp_path, "elec.csv", "T [K],sigma [S/m],S [uV/K]\n"
                  "280,1e5,100\n380,2e5,200\n480,3e5,300\n580,4e5,400\n")
     m = read_measurements([thermal, elec])
-    np.testing.assert_array_equal(m.T, [300, 400, 500])
-    np.testing.assert_allclose(m.sigma, [1.2e5, 2.2e5, 3.2e5], rtol=1e-12)  # linear in T
+    np.testing.assert_array_equal(m.temperature, [300, 400, 500])
+    np.testing.assert_allclose(m.electrical_conductivity, [1.2e5, 2.2e5, 3.2e5], rtol=1e-12)  # linear in T
     np.testing.assert_allclose(m.seebeck * 1e6, [120, 220, 320], rtol=1e-12)
     assert len(m.dropped) == 2
     assert "T = 250 K" in m.dropped[0] and "not extrapolated" in m.dropped[0]
@@ -58,8 +59,8 @@ def test_blank_cells_are_another_grid(tmp_path):
     p = write(tmp_path, "d.csv", "T [K],kappa [W/(m K)],sigma [S/m],S [uV/K]\n"
               "300,2.0,1e5,\n350,1.9,,150\n400,1.8,2e5,\n450,1.7,,250\n500,1.6,3e5,\n")
     m = read_measurements(p)
-    np.testing.assert_array_equal(m.T, [350, 400, 450])  # S spans 350-450 K only
-    np.testing.assert_allclose(m.sigma, [1.5e5, 2e5, 2.5e5])
+    np.testing.assert_array_equal(m.temperature, [350, 400, 450])  # S spans 350-450 K only
+    np.testing.assert_allclose(m.electrical_conductivity, [1.5e5, 2e5, 2.5e5])
     np.testing.assert_allclose(m.seebeck * 1e6, [150, 200, 250])
 
 
@@ -104,7 +105,7 @@ def test_nan_raise_names_row_and_column(tmp_path):
 def test_nan_omit_drops_and_lists(tmp_path):
     p = write(tmp_path, "n.csv", NAN_FILE)
     m = read_measurements(p, nan="omit")
-    np.testing.assert_array_equal(m.T, [300, 400, 450])
+    np.testing.assert_array_equal(m.temperature, [300, 400, 450])
     assert m.dropped == ("n.csv, row 3 (T = 350 K): NaN in column 'kappa [W/(m K)]' "
                          "(--nan omit)",)
 
@@ -112,9 +113,9 @@ def test_nan_omit_drops_and_lists(tmp_path):
 def test_arrays_api_nan_policy():
     T = [300.0, 400.0, 500.0, 600.0]
     with pytest.raises(DataError, match="arrays, index 1"):
-        measurements_from_arrays(T, kappa=[1, np.nan, 1, 1], sigma=[1e5] * 4)
-    m = measurements_from_arrays(T, kappa=[1, np.nan, 1, 1], sigma=[1e5] * 4, nan="omit")
-    np.testing.assert_array_equal(m.T, [300, 500, 600])
+        measurements_from_arrays(T, kappa=[1, np.nan, 1, 1], electrical_conductivity=[1e5] * 4)
+    m = measurements_from_arrays(T, kappa=[1, np.nan, 1, 1], electrical_conductivity=[1e5] * 4, nan="omit")
+    np.testing.assert_array_equal(m.temperature, [300, 500, 600])
 
 
 BAD = [
@@ -182,7 +183,7 @@ def test_sign_change_of_S_warns(tmp_path):
 
 def test_bad_nan_policy():
     with pytest.raises(DataError, match="--nan = drop: raise or omit"):
-        measurements_from_arrays([1, 2, 3], kappa=[1, 1, 1], sigma=[1, 1, 1], nan="drop")
+        measurements_from_arrays([1, 2, 3], kappa=[1, 1, 1], electrical_conductivity=[1, 1, 1], nan="drop")
 
 
 def test_alternative_column_names(tmp_path):
@@ -191,8 +192,8 @@ def test_alternative_column_names(tmp_path):
     p.write_text("temperature [K],kappa_total [W/(m K)],rho [mOhm cm],Seebeck [uV/K]\n"
                  "300,2.0,1.0,150\n400,1.8,1.2,170\n500,1.6,1.4,190\n", encoding="utf-8")
     m = read_measurements([p])
-    assert m.T.tolist() == [300.0, 400.0, 500.0]
+    assert m.temperature.tolist() == [300.0, 400.0, 500.0]
     assert m.kappa.tolist() == [2.0, 1.8, 1.6]
     # 1 mOhm cm = 1e-5 Ohm m → sigma = 1e5 S/m (unit arithmetic, no source needed)
-    assert m.sigma[0] == pytest.approx(1e5)
+    assert m.electrical_conductivity[0] == pytest.approx(1e5)
     assert m.seebeck[0] == pytest.approx(150e-6)

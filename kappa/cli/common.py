@@ -1,17 +1,27 @@
-"""Shared pieces of the command line: error handling, warnings, terminal tables."""
+"""Shared pieces of the command line: error handling, warnings, progress, terminal tables.
+
+One error family, end to end: every failure of a command ends with exit status 2 and one
+``error: ...`` line on stderr. A :class:`~kappa.errors.KappaError` (bad input) names the key,
+the value and what is allowed; anything else that escapes a command (an overflow, a file that
+cannot be written, a numba error, ...) is caught by the safety net of :func:`handles_errors`,
+which names the command and the exception and suggests ``--debug`` (which shows the full
+traceback instead). Each :class:`~kappa.errors.KappaWarning` is printed once as
+``warning: ...`` and recorded for ``run.json`` (:func:`kappa.io.records.collect_warnings`).
+"""
 
 from __future__ import annotations
 
 import functools
+import os
 import sys
 import time
-import warnings
 from collections.abc import Callable, Sequence
 from typing import Any, TypeVar
 
 import typer
 
 from kappa.errors import KappaError, KappaWarning
+from kappa.io.records import collect_warnings
 
 F = TypeVar("F", bound=Callable[..., Any])
 
@@ -20,7 +30,18 @@ CAUTION = (
     "by measurement and defer to the applicable codes and licensed engineering practice."
 )
 
-_state = {"debug": False}
+_state: dict[str, Any] = {"debug": False, "depth": 0}
+_printed: set[str] = set()  # warnings printed during the current command
+
+#: Unexpected exceptions the safety net explains in plain words (others by their name).
+_PLAIN = {
+    MemoryError: "ran out of memory (try a smaller input or fewer draws/points)",
+    RecursionError: "an input is nested too deeply",
+    OverflowError: "a number grew too large",
+    ZeroDivisionError: "a division by zero",
+    FloatingPointError: "a floating-point error",
+    UnicodeDecodeError: "a file is not UTF-8 text",
+}
 
 
 def set_debug(flag: bool) -> None:
@@ -35,42 +56,140 @@ def echo_err(message: str) -> None:
     typer.echo(message, err=True)
 
 
-def handles_errors(func: F) -> F:
-    """Run a command: KappaError -> one line on stderr and exit status 2; warnings -> stderr.
+def _one_line(text: str, limit: int = 300) -> str:
+    text = " ".join(str(text).split())
+    return text if len(text) <= limit else text[: limit - 3] + "..."
 
-    With ``--debug`` the error propagates with its traceback.
+
+def unexpected_message(command: str, exc: BaseException) -> str:
+    """The one line for an exception that is not a :class:`KappaError`."""
+    command = f"kappa {command}" if command else "kappa"
+    if isinstance(exc, OSError) and not isinstance(exc, UnicodeError):
+        what = exc.strerror or type(exc).__name__
+        where = f" {exc.filename}" if exc.filename else ""
+        other = f" -> {exc.filename2}" if getattr(exc, "filename2", None) else ""
+        return _one_line(f"{command}: cannot read or write{where}{other}: {what} "
+                         f"({type(exc).__name__}); rerun with --debug for the traceback")
+    plain = next((text for cls, text in _PLAIN.items() if isinstance(exc, cls)), None)
+    detail = f"{type(exc).__name__}: {exc}" if str(exc) else type(exc).__name__
+    lead = f"{plain} ({detail})" if plain else f"unexpected {detail}"
+    return _one_line(f"{command} stopped: {lead}; rerun with --debug for the full "
+                     "traceback")
+
+
+def _passes_through(exc: BaseException) -> bool:
+    """Exceptions of the command-line library itself (exit, abort, usage errors)."""
+    return isinstance(exc, (typer.Exit, typer.Abort)) or type(exc).__module__.startswith(
+        ("click", "typer"))
+
+
+def handles_errors(func: F | None = None, *, command: str | None = None) -> Any:
+    """Run a command: every failure -> one ``error:`` line and exit status 2; warnings -> stderr.
+
+    ``command`` names the command in messages (default: the function name without a
+    ``_command`` suffix). With ``--debug`` errors propagate with their traceback.
     """
+    if func is None:
+        return functools.partial(handles_errors, command=command)
+    name = command or func.__name__.strip("_").removesuffix("_command")
 
     @functools.wraps(func)
     def wrapper(*args: Any, **kwargs: Any) -> Any:
-        with warnings.catch_warnings(record=True) as caught:
-            warnings.simplefilter("always", KappaWarning)
+        if not _state["depth"]:
+            _printed.clear()  # a new command: its warnings are printed again
+        _state["depth"] += 1
+        with collect_warnings() as caught:
             try:
                 return func(*args, **kwargs)
             except KappaError as exc:
                 _flush_warnings(caught)
-                caught.clear()
                 if debug():
                     raise
-                echo_err(f"error: {exc}")
+                echo_err(f"error: {_one_line(str(exc), 2000)}")
+                raise typer.Exit(2) from None
+            except Exception as exc:
+                if _passes_through(exc):
+                    raise
+                _flush_warnings(caught)
+                if debug():
+                    raise
+                echo_err(f"error: {unexpected_message(name, exc)}")
                 raise typer.Exit(2) from None
             finally:
                 _flush_warnings(caught)
+                _state["depth"] -= 1
 
-    return wrapper  # type: ignore[return-value]
+    return wrapper
+
+
+def show_warning(text: str) -> None:
+    """Print a KappaWarning as ``warning: ...`` on stderr, once per command."""
+    if text not in _printed:
+        _printed.add(text)
+        echo_err(f"warning: {_one_line(text, 2000)}")
 
 
 def _flush_warnings(caught: list) -> None:
-    seen: set[str] = set()
     for w in caught:
         if issubclass(w.category, KappaWarning):
-            text = str(w.message)
-            if text not in seen:
-                seen.add(text)
-                echo_err(f"warning: {text}")
+            show_warning(str(w.message))
         elif debug():
             echo_err(f"warning: {w.message}")
     caught.clear()
+
+
+def quiet_matplotlib_config() -> None:
+    """Give matplotlib a writable configuration folder before it is imported.
+
+    Without one (a home folder that cannot be written) matplotlib prints two lines of its own
+    on every run; kappa then uses a folder in its cache, or a temporary one.
+    """
+    if os.environ.get("MPLCONFIGDIR") or "matplotlib" in sys.modules:
+        return
+    from kappa.core.cache import cache_root, writable_folder
+
+    base = os.environ.get("XDG_CONFIG_HOME") or os.path.join(os.path.expanduser("~"), ".config")
+    if writable_folder(os.path.join(base, "matplotlib")):
+        return
+    root, _ = cache_root()
+    folder = os.path.join(root, "matplotlib") if root else ""
+    if not writable_folder(folder):
+        import atexit
+        import shutil
+        import tempfile
+
+        folder = tempfile.mkdtemp(prefix="kappa-matplotlib-")
+        atexit.register(shutil.rmtree, folder, ignore_errors=True)
+    os.environ["MPLCONFIGDIR"] = folder
+
+
+class Bar:
+    """A simple progress bar on stderr, drawn only on a terminal and only after one second.
+
+    Call it as ``bar(done, total)``; it is a no-op when stderr is not a terminal.
+    """
+
+    def __init__(self, label: str = "") -> None:
+        self.label = label
+        self.start = time.perf_counter()
+        self.shown = False
+        self.tty = sys.stderr.isatty()
+
+    def __call__(self, done: int, total: int) -> None:
+        if not self.tty or total <= 0:
+            return
+        elapsed = time.perf_counter() - self.start
+        if elapsed < 1.0 and not self.shown:
+            return
+        self.shown = True
+        frac = done / total
+        width = 30
+        fill = int(round(frac * width))
+        sys.stderr.write(f"\r{self.label} [{'#' * fill}{'.' * (width - fill)}] "
+                         f"{100 * frac:5.1f} % {elapsed:6.1f} s")
+        if done >= total:
+            sys.stderr.write("\n")
+        sys.stderr.flush()
 
 
 def print_table(headers: Sequence[str], rows: Sequence[Sequence[Any]], *, max_rows: int = 12,
@@ -101,29 +220,3 @@ def _cell(v: Any) -> str:
     if f != f:
         return "-"
     return f"{f:.4g}"
-
-
-class ProgressBar:
-    """A simple progress bar on stderr, drawn only on a terminal and only after one second."""
-
-    def __init__(self, label: str = "") -> None:
-        self.label = label
-        self.start = time.perf_counter()
-        self.shown = False
-        self.tty = sys.stderr.isatty()
-
-    def __call__(self, done: int, total: int) -> None:
-        if not self.tty or total <= 0:
-            return
-        elapsed = time.perf_counter() - self.start
-        if elapsed < 1.0 and not self.shown:
-            return
-        self.shown = True
-        frac = done / total
-        width = 30
-        fill = int(round(frac * width))
-        sys.stderr.write(f"\r{self.label} [{'#' * fill}{'.' * (width - fill)}] {100 * frac:5.1f} % "
-                         f"{elapsed:6.1f} s")
-        if done >= total:
-            sys.stderr.write("\n")
-        sys.stderr.flush()

@@ -53,29 +53,56 @@ COMMANDS: list[str] = ["new", "check", "predict", "split", "fit", "sweep", "spec
 _register()
 
 
+def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
+    """Warnings issued outside a command (e.g. while modules load): one line each."""
+    from kappa.errors import KappaWarning
+
+    if issubclass(category, KappaWarning):
+        common.show_warning(str(message))
+    elif common.debug():
+        common.echo_err(f"warning: {message}")
+
+
 def run() -> None:
     """Console-script entry point.
 
-    Usage errors (a missing argument, a file that does not exist, an option out of range) are
-    printed as one ``error: ...`` line with exit status 2, like every other bad input.
+    Every failure ends in one ``error: ...`` line on stderr and exit status 2: usage errors (a
+    missing argument, a file that does not exist, an option out of range), bad input
+    (:class:`~kappa.errors.KappaError`) and, as a safety net, anything unexpected (named with
+    the command, with a hint to ``--debug``). Ctrl-C and SIGTERM end with "aborted" and status
+    130 or 143; an output folder being written is removed.
     """
+    import signal
     import sys
+    import warnings
 
+    from kappa.io.outdir import Interrupted
+
+    warnings.showwarning = _show_warning
+    common.quiet_matplotlib_config()
     try:
-        code = app(standalone_mode=False)
-    except Exception as exc:  # click-style exceptions (typer vendors click in recent versions)
-        name = type(exc).__name__
-        if not hasattr(exc, "format_message") or common.debug():
+        code = app(standalone_mode=False)  # Ctrl-C: typer returns 130
+    except Interrupted as exc:  # SIGTERM or SIGHUP while an output folder was written
+        common.echo_err(f"aborted ({signal.Signals(exc.signum).name})")
+        sys.exit(128 + exc.signum)
+    except KeyboardInterrupt:
+        code = 130
+    except Exception as exc:
+        if common.debug():
             raise
-        if name == "NoArgsIsHelpError" or not hasattr(exc, "exit_code"):
-            exc.show()  # type: ignore[attr-defined]
-            sys.exit(getattr(exc, "exit_code", 2))
+        name = type(exc).__name__
         if name == "Abort":
             common.echo_err("aborted")
             sys.exit(1)
+        if not hasattr(exc, "format_message"):  # not a usage error: the safety net
+            command = next((a for a in sys.argv[1:] if a in COMMANDS), "")
+            common.echo_err(f"error: {common.unexpected_message(command, exc)}")
+            sys.exit(2)
+        if name == "NoArgsIsHelpError" or not hasattr(exc, "exit_code"):
+            exc.show()  # type: ignore[attr-defined]
+            sys.exit(getattr(exc, "exit_code", 2))
         common.echo_err(f"error: {exc.format_message()}")
         sys.exit(exc.exit_code if exc.exit_code else 2)
-    except KeyboardInterrupt:
+    if code == 130:
         common.echo_err("aborted")
-        sys.exit(130)
     sys.exit(code if isinstance(code, int) else 0)

@@ -12,20 +12,23 @@ import typer
 from kappa.cli import common
 from kappa.core.electronic import LORENZ_MODELS
 from kappa.errors import DataError
+from kappa.io.measurements import read_measurements
 from kappa.io.outdir import check_out, default_out, output_folder
 from kappa.io.records import run_record, write_json
 from kappa.io.tables import write_table
-from kappa.io.units import parse_quantity
-from kappa.workflows.measurements import NAN_POLICIES, Measurements, read_measurements
+from kappa.io.units import parse_quantity, parse_window
+from kappa.workflows.measurements import NAN_POLICIES, Measurements
 from kappa.workflows.split import (
     DEFAULT_UNCERTAINTY,
+    DRAW_RANGE,
+    EXPONENT_RANGE,
     INTERVAL,
     UNCERTAINTY_KEYS,
     SplitResult,
     split_measurements,
 )
 
-HELP = f"""Split measured thermal conductivity into lattice and electronic parts.
+HELP = """Split measured thermal conductivity into lattice and electronic parts.
 
 kappa_e = L sigma T (Wiedemann-Franz), kappa_L = kappa - kappa_e (bipolar part included),
 zT = S^2 sigma T / kappa, with 68 % Monte Carlo bands from relative measurement uncertainties,
@@ -42,15 +45,20 @@ Examples:
   kappa split sample.csv -o sample-split
   kappa split flash.csv electrical.csv --composition Mg2Si0.4Sn0.6 -o out
   kappa split data.csv --lorenz kim --uncertainty kappa=0.08,sigma=0.05,S=0.05
-  kappa split data.csv --lorenz spb --scattering-exponent 2 --fit-window 300K:450K
+  kappa split data.csv --lorenz spb --scattering-exponent 2 --window 300K:450K
   kappa split data.csv --lorenz 2.0e-8 --nan omit --draws 5000 --seed 7
 
-{common.CAUTION}
+Limits: --draws 100 to 100,000; --seed >= 0; --scattering-exponent -0.9 to 4.
 """
 
 
 def register(app: typer.Typer) -> None:
     app.command("split", help=HELP)(split_command)
+
+
+#: Library argument names -> the options of this command (for error messages).
+_OPTIONS = {"fit_window": "--window", "draws": "--draws", "seed": "--seed",
+            "scattering_exponent": "--scattering-exponent", "uncertainty": "--uncertainty"}
 
 
 # --- option parsing (all before anything is written) ------------------------------------------
@@ -100,21 +108,20 @@ def parse_uncertainty(text: str | None) -> dict[str, float]:
     return out
 
 
-def parse_fit_window(text: str | None) -> tuple[float, float] | None:
-    """``300K:450K`` (bare numbers are kelvin; degC works) -> (300.0, 450.0)."""
-    if not text:
-        return None
-    allowed = "two temperatures LOW:HIGH, e.g. 300K:450K or 300:450 (kelvin)"
-    parts = text.split(":")
-    if len(parts) != 2:
-        raise DataError("--fit-window", text, allowed)
-    try:
-        lo, hi = (parse_quantity(p.strip(), "K", "--fit-window", error=DataError) for p in parts)
-    except DataError:
-        raise DataError("--fit-window", text, allowed) from None
-    if not lo < hi:
-        raise DataError("--fit-window", text, "LOW must be below HIGH, e.g. 300K:450K")
-    return lo, hi
+def parse_run_options(draws: int, seed: int, scattering_exponent: float) -> None:
+    """Check --draws, --seed and --scattering-exponent before anything is read."""
+    low, high = DRAW_RANGE
+    if not low <= draws <= high:
+        raise DataError("--draws", draws, f"from {low:,} to {high:,} Monte Carlo draws "
+                        "(2,000 give bands good to about 3 %)")
+    if seed < 0:
+        raise DataError("--seed", seed, "a whole number >= 0 (the same seed gives the same "
+                        "draws)")
+    lo, hi = EXPONENT_RANGE
+    if not lo <= scattering_exponent <= hi:
+        raise DataError("--scattering-exponent", scattering_exponent,
+                        f"from {lo:g} to {hi:g} (lambda in tau ~ E^(lambda-1/2): 0 acoustic "
+                        "phonons, 1 polar optical, 2 ionized impurities)")
 
 
 def parse_cahill(number_density: str | None,
@@ -146,7 +153,7 @@ def parse_cahill(number_density: str | None,
 def table_columns(r: SplitResult, m: Measurements) -> list[tuple[str, object]]:
     """The columns of ``split.csv`` (the first four are fixed; readers may rely on them)."""
     cols: list[tuple[str, object]] = [
-        ("T [K]", r.T),
+        ("T [K]", r.temperature),
         ("L [W Ohm/K^2]", r.lorenz),
         ("kappa_e [W/(m K)]", r.kappa_e),
         ("kappa_L [W/(m K)]", r.kappa_L),
@@ -165,7 +172,7 @@ def table_columns(r: SplitResult, m: Measurements) -> list[tuple[str, object]]:
         cols += [("zT [1]", r.zT), ("zT_low [1]", r.zT_low), ("zT_high [1]", r.zT_high)]
     if r.eta is not None:
         cols.append(("eta [1]", r.eta))
-    cols += [("kappa [W/(m K)]", r.kappa), ("sigma [S/m]", r.sigma)]
+    cols += [("kappa [W/(m K)]", r.kappa), ("sigma [S/m]", r.electrical_conductivity)]
     if r.seebeck is not None:
         cols.append(("S [uV/K]", r.seebeck * 1e6))
     if m.heat_capacity is not None:
@@ -204,14 +211,15 @@ def summary_lines(r: SplitResult, m: Measurements) -> list[str]:
         lines.append(f"Note: {note}")
     b = r.bipolar
     if b is not None:
-        how = "automatic" if b.window_auto else "--fit-window"
+        how = "automatic" if b.window_auto else "--window"
         text = (f"Bipolar check: kappa_L = A/T + B fitted on {b.fit_window[0]:g}-"
                 f"{b.fit_window[1]:g} K ({how}); ")
         if b.onset is None:
             text += "no rise above the extrapolation beyond its uncertainty"
         else:
             text += (f"kappa_L rises above it from {b.onset:g} K on (bipolar onset); excess "
-                     f"{b.excess[-1]:.3g} +- {b.excess_err[-1]:.2g} W/(m K) at {r.T[-1]:g} K")
+                     f"{b.excess[-1]:.3g} +- {b.excess_err[-1]:.2g} W/(m K) at "
+                     f"{r.temperature[-1]:g} K")
         lines.append(text)
         if b.seebeck_max is not None:
             if b.gap is None:
@@ -221,11 +229,16 @@ def summary_lines(r: SplitResult, m: Measurements) -> list[str]:
                              f"eV (|S|max = {b.seebeck_max * 1e6:.4g} uV/K at "
                              f"{b.temperature_at_seebeck_max:g} K); {b.gap_note}")
     if r.nonpositive.any():
-        lines.append("Flag: kappa_L <= 0 at " + ", ".join(f"{t:g} K" for t in r.T[r.nonpositive]))
+        lines.append("Flag: kappa_L <= 0 at " + _temperatures(r.temperature[r.nonpositive]))
     if r.below_minimum is not None and r.below_minimum.any():
         lines.append("Flag: kappa_L below the Cahill minimum at "
-                     + ", ".join(f"{t:g} K" for t in r.T[r.below_minimum]))
+                     + _temperatures(r.temperature[r.below_minimum]))
     return lines
+
+
+def _temperatures(T: np.ndarray, shown: int = 8) -> str:
+    text = ", ".join(f"{t:g} K" for t in T[:shown])
+    return text + (f" and {T.size - shown} more" if T.size > shown else "")
 
 
 def _flags(r: SplitResult, i: int) -> str:
@@ -252,8 +265,8 @@ def split_command(
         "--lorenz", help="Lorenz model: spb, degenerate, nondegenerate, kim, or a number in "
         "W Ohm/K^2 (e.g. 2.0e-8).")] = "spb",
     scattering_exponent: Annotated[float, typer.Option(
-        "--scattering-exponent", help="lambda in tau ~ E^(lambda-1/2) for --lorenz spb: "
-        "0 acoustic phonons, 1 polar optical, 2 ionized impurities.")] = 0.0,
+        "--scattering-exponent", help="lambda in tau ~ E^(lambda-1/2) for --lorenz spb, "
+        "-0.9 to 4: 0 acoustic phonons, 1 polar optical, 2 ionized impurities.")] = 0.0,
     composition: Annotated[str | None, typer.Option(
         "--composition", help="Chemical formula (e.g. Bi2Te2.7Se0.3); cp = Dulong-Petit "
         "3R/M for flash data.", show_default=False)] = None,
@@ -261,13 +274,18 @@ def split_command(
         "--uncertainty", help="Relative 1-sigma uncertainties, e.g. kappa=0.08,sigma=0.05,S=0.05"
         " (keys kappa, sigma|resistivity, S, L). Defaults: kappa=0.11,sigma=0.08,S=0.06,L=0.",
         show_default=False)] = None,
+    window: Annotated[str | None, typer.Option(
+        "--window", help="Window LOW:HIGH of the A/T + B fit of the bipolar check, e.g. "
+        "300K:450K (bare numbers in K; one side may be empty; default: automatic).",
+        show_default=False)] = None,
     fit_window: Annotated[str | None, typer.Option(
-        "--fit-window", help="Window of the A/T + B fit of the bipolar check, e.g. 300K:450K "
-        "(default: automatic).", show_default=False)] = None,
+        "--fit-window", hidden=True, help="Old name of --window.")] = None,
     nan: Annotated[str, typer.Option(
         "--nan", help="NaN cells: raise (error) or omit (drop the row and list it).")] = "raise",
-    draws: Annotated[int, typer.Option("--draws", help="Monte Carlo draws.", min=100)] = 2000,
-    seed: Annotated[int, typer.Option("--seed", help="Random seed of the Monte Carlo.")] = 0,
+    draws: Annotated[int, typer.Option("--draws", help="Monte Carlo draws (100 to 100,000).")
+                     ] = 2000,
+    seed: Annotated[int, typer.Option("--seed", help="Random seed of the Monte Carlo (>= 0).")
+                    ] = 0,
     number_density: Annotated[str | None, typer.Option(
         "--number-density", help="Atoms per volume for the Cahill minimum, e.g. '4.99e28 1/m^3'"
         " (needs --sound-velocity).", show_default=False)] = None,
@@ -279,14 +297,24 @@ def split_command(
         "velocities give the Cahill minimum (--number-density/--sound-velocity take priority).",
         exists=True, dir_okay=False, show_default=False)] = None,
 ) -> None:
+    if fit_window is not None:
+        if window is not None:
+            _usage_error("--window", f"{window} and --fit-window {fit_window}",
+                         "give --window once (--fit-window is its old name)")
+        window = fit_window
     if config is not None:
         number_density, sound_velocity = _cahill_from_config(config, number_density,
                                                              sound_velocity)
-    _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, fit_window,
-         nan, draws, seed, number_density, sound_velocity)
+    _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, window,
+         nan, draws, seed, number_density, sound_velocity, config)
 
 
-@common.handles_errors
+@common.handles_errors(command="split")
+def _usage_error(key: str, value: str, allowed: str) -> None:
+    raise DataError(key, value, allowed)
+
+
+@common.handles_errors(command="split")
 def _cahill_from_config(config: Path, number_density: str | None,
                         sound_velocity: list[str] | None) -> tuple[str, list[str]]:
     """Number density and velocities (as option strings) from a config, unless given."""
@@ -303,51 +331,58 @@ def _cahill_from_config(config: Path, number_density: str | None,
     return number_density, sound_velocity
 
 
-@common.handles_errors
-def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, fit_window,
-         nan, draws, seed, number_density, sound_velocity) -> None:
+@common.handles_errors(command="split")
+def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, window_text,
+         nan, draws, seed, number_density, sound_velocity, config) -> None:
     # 1. validate every option and the data before anything is written
     model = parse_lorenz(lorenz)
     unc = parse_uncertainty(uncertainty)
-    window = parse_fit_window(fit_window)
+    window = parse_window(window_text, "--window", error=DataError)
     n_density, velocities = parse_cahill(number_density, sound_velocity)
     if nan not in NAN_POLICIES:
         raise DataError("--nan", nan, "raise or omit")
-    if not (scattering_exponent > -1 and math.isfinite(scattering_exponent)):
-        raise DataError("--scattering-exponent", scattering_exponent,
-                        "must be > -1 (0 acoustic phonons, 1 polar optical, 2 ionized impurity)")
+    parse_run_options(draws, seed, scattering_exponent)
+    inputs = [*data, *([config] if config is not None else [])]
     out = Path(out) if out is not None else default_out(data[0], "split")
-    check_out(out, force=force, inputs=data)
+    check_out(out, force=force, inputs=inputs)
     m = read_measurements(data, nan=nan, composition=composition)
     if m.seebeck is None and model in ("spb", "kim"):
         raise DataError(", ".join(p.name for p in data), "no column 'S [...]'",
                         f"a Seebeck column (e.g. 'S [uV/K]') is needed for --lorenz {model}; "
                         "or choose --lorenz degenerate, nondegenerate or a number")
-    r = split_measurements(m, lorenz=model, scattering_exponent=scattering_exponent,
-                           uncertainty=unc, draws=draws, seed=seed, fit_window=window,
-                           number_density=n_density, sound_velocities=velocities)
+    try:
+        r = split_measurements(m, lorenz=model, scattering_exponent=scattering_exponent,
+                               uncertainty=unc, draws=draws, seed=seed, fit_window=window,
+                               number_density=n_density, sound_velocities=velocities,
+                               progress=common.Bar("split"))
+    except DataError as exc:
+        if exc.key not in _OPTIONS:
+            raise
+        raise DataError(_OPTIONS[exc.key], exc.value, exc.allowed) from None
     lines = summary_lines(r, m)
     from kappa.presentation.split import plot_split
 
     fig = plot_split(r, title=", ".join(p.name for p in data))
     record = run_record(
         "split",
-        inputs={"files": [str(p) for p in data], "lorenz": model,
-                "scattering_exponent": scattering_exponent, "composition": composition,
-                "uncertainty": r.uncertainty, "uncertainty_defaults": DEFAULT_UNCERTAINTY,
-                "fit_window_K": list(window) if window else "automatic", "nan": nan,
-                "draws": draws, "seed": seed, "number_density_per_m3": n_density,
-                "sound_velocities_m_per_s": velocities},
+        inputs=inputs,
+        options={"files": [str(p) for p in data], "lorenz": model,
+                 "scattering_exponent": scattering_exponent, "composition": composition,
+                 "uncertainty": r.uncertainty, "uncertainty_defaults": DEFAULT_UNCERTAINTY,
+                 "fit_window_K": list(window) if window else "automatic", "nan": nan,
+                 "draws": draws, "seed": seed, "number_density_per_m3": n_density,
+                 "sound_velocities_m_per_s": velocities,
+                 "config": None if config is None else str(config)},
         measurements={"sources": m.sources, "heat_capacity": m.heat_capacity_source,
                       "dropped_rows": list(m.dropped), "notes": list(m.notes),
-                      "rows": int(r.T.size)},
+                      "rows": int(r.temperature.size)},
         derived=_derived(r),
         summary=lines,
         citations=list(r.citations),
         caution=common.CAUTION,
     )
     # 2. write everything into a temporary folder, renamed to OUT only when complete
-    with output_folder(out, force=force, inputs=data) as tmp:
+    with output_folder(out, force=force, inputs=inputs) as tmp:
         write_table(tmp / "split.csv", table_columns(r, m))
         fig.savefig(tmp / "split.png", dpi=150)
         fig.set_layout_engine("none")  # keep the layout just computed; saves a second pass
@@ -357,7 +392,10 @@ def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty
     headers = ["T [K]", "L [1e-8 W Ohm/K^2]", "kappa", "kappa_e", "kappa_L",
                "kappa_L 68%", "zT", "flags"]
     rows = []
-    for i, t in enumerate(r.T):
+    n = r.temperature.size
+    shown = range(n) if n <= 12 else sorted({round(k * (n - 1) / 11) for k in range(12)})
+    for i in shown:
+        t = r.temperature[i]
         rows.append([t, r.lorenz[i] * 1e8, r.kappa[i], r.kappa_e[i], r.kappa_L[i],
                      f"{r.kappa_L_low[i]:.3g}..{r.kappa_L_high[i]:.3g}",
                      np.nan if r.zT is None else r.zT[i], _flags(r, i)])
@@ -366,7 +404,6 @@ def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty
     for line in lines:
         typer.echo(line)
     typer.echo(f"Wrote {out}/ (split.csv, split.png, split.svg, run.json)")
-    typer.echo(common.CAUTION)
 
 
 def _derived(r: SplitResult) -> dict:

@@ -110,7 +110,7 @@ def sweep_command(
     check_out(out, force=force, inputs=[config])
 
     t0 = time.perf_counter()
-    result = sweep(model, axes, T, progress=common.ProgressBar("sweep"), allow_large=yes)
+    result = sweep(model, axes, T, progress=common.Bar("sweep"), allow_large=yes)
     elapsed = time.perf_counter() - t0
 
     from kappa.presentation.style import save

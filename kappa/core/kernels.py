@@ -14,13 +14,14 @@ I₁ = inf, which the evaluator reports. Users never call these; see :mod:`kappa
 from __future__ import annotations
 
 import numpy as np
-from numba import njit, prange
+
+from kappa.core.jit import jit, prange
 
 __all__ = ["callaway_integrals", "callaway_integrals_serial", "callaway_integrals_free",
            "callaway_integrals_free_serial", "callaway_integrals_nodes"]
 
 # fastmath flags: reassociation lets the sums vectorise; no 'nnan'/'ninf' so that a NaN from bad
-# input would still show. cache=True: compiled once per machine, then loaded from the cache.
+# input would still show. cache: compiled once per machine, then loaded from the user's cache folder (core/jit.py).
 # error_model="numpy": a division by zero gives inf/NaN (which the evaluator reports as an error
 # naming the input) instead of raising inside the compiled code.
 _FAST = {"reassoc", "contract", "arcp", "nsz"}
@@ -30,12 +31,12 @@ _TAIL_TOL = 1e-10  # stop the small-x blocks when x·f(x) at the block's end is 
 _MAX_BLOCKS = 38  # 38 blocks of 8 decades reach below the smallest double
 
 
-@njit(cache=True, fastmath=_FAST, error_model=_NP)
+@jit(fastmath=_FAST, error_model=_NP)
 def _poly(c, x):  # pragma: no cover - compiled
     return c[0] + x * (c[1] + x * (c[2] + x * (c[3] + x * c[4])))
 
 
-@njit(cache=True, fastmath=_FAST, error_model=_NP)
+@jit(fastmath=_FAST, error_model=_NP)
 def _terms(r, n, x, w):  # pragma: no cover - compiled
     rr = _poly(r, x)
     rn = _poly(n, x)
@@ -43,7 +44,7 @@ def _terms(r, n, x, w):  # pragma: no cover - compiled
     return tc, tc * rn, tc * rn * rr
 
 
-@njit(cache=True, error_model=_NP)
+@jit(error_model=_NP)
 def _small_terms(r, n, x):  # pragma: no cover - compiled
     """The three integrands τ_c w, τ_c w/τ_N, τ_c w/(τ_N τ_R) with w = x²(1 − x²/12), written so
     that nothing under- or overflows as x → 0: τ_c w = (1 − x²/12)/(R/x²), where
@@ -62,7 +63,7 @@ def _small_terms(r, n, x):  # pragma: no cover - compiled
     return tc, tc * rn, tc * rn * rr
 
 
-@njit(cache=True, error_model=_NP)
+@jit(error_model=_NP)
 def _small_x(r, n, xs, bt, bq, i1, i2, i3):  # pragma: no cover - compiled
     """Add ∫₀^{x_s} to (i1, i2, i3); w(x) = x²(1 − x²/12) holds to double precision there."""
     lo = xs
@@ -82,7 +83,7 @@ def _small_x(r, n, xs, bt, bq, i1, i2, i3):  # pragma: no cover - compiled
     return i1, i2, i3
 
 
-@njit(cache=True, fastmath=_FAST, error_model=_NP, inline="always")
+@jit(fastmath=_FAST, error_model=_NP, inline="always")
 def _shared_rule_sample(x, wq, count, x_s, grid, res, nrm, bt, bq, out, s):  # pragma: no cover
     """Integrals of sample s with the shared rule ``grid[s]`` (see :func:`callaway_integrals`)."""
     g = grid[s]
@@ -118,7 +119,7 @@ def _shared_rule_sample(x, wq, count, x_s, grid, res, nrm, bt, bq, out, s):  # p
     out[s, 2] = i3
 
 
-@njit(cache=True, parallel=True, fastmath=_FAST, error_model=_NP)
+@jit(parallel=True, fastmath=_FAST, error_model=_NP)
 def callaway_integrals(x, wq, count, x_s, grid, res, nrm, bt, bq, out):  # pragma: no cover
     """Fill ``out[s] = (I₁, I₂, I₃)`` for every sample s (in parallel).
 
@@ -130,7 +131,7 @@ def callaway_integrals(x, wq, count, x_s, grid, res, nrm, bt, bq, out):  # pragm
         _shared_rule_sample(x, wq, count, x_s, grid, res, nrm, bt, bq, out, s)
 
 
-@njit(cache=True, fastmath=_FAST, error_model=_NP)
+@jit(fastmath=_FAST, error_model=_NP)
 def callaway_integrals_serial(x, wq, count, x_s, grid, res, nrm, bt, bq, out):  # pragma: no cover
     """:func:`callaway_integrals` in one thread: for small problems, where starting the thread
     pool (and loading the parallel code) costs more than it saves."""
@@ -138,7 +139,7 @@ def callaway_integrals_serial(x, wq, count, x_s, grid, res, nrm, bt, bq, out):  
         _shared_rule_sample(x, wq, count, x_s, grid, res, nrm, bt, bq, out, s)
 
 
-@njit(cache=True, fastmath=_FAST, error_model=_NP)
+@jit(fastmath=_FAST, error_model=_NP)
 def _weight(x):  # pragma: no cover - compiled
     """x⁴eˣ/(eˣ−1)² = x⁴e⁻ˣ/(1−e⁻ˣ)² (x > 0); a series below x = 0.05 (error < 3e-16)."""
     if x < 0.05:
@@ -149,7 +150,7 @@ def _weight(x):  # pragma: no cover - compiled
     return x * x * x * x * em / (d * d)
 
 
-@njit(cache=True, fastmath=_FAST, error_model=_NP, inline="always")
+@jit(fastmath=_FAST, error_model=_NP, inline="always")
 def _own_rule_sample(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q, x_switch, eps_low,
                      lin_width, bt, bq, out, s):  # pragma: no cover - compiled
     """Integrals of sample s with a rule built for its own upper limit."""
@@ -191,7 +192,7 @@ def _own_rule_sample(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q, x_switc
     out[s, 2] = i3
 
 
-@njit(cache=True, parallel=True, fastmath=_FAST, error_model=_NP)
+@jit(parallel=True, fastmath=_FAST, error_model=_NP)
 def callaway_integrals_free(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q, x_switch,
                             eps_low, lin_width, bt, bq, out):  # pragma: no cover - compiled
     """As :func:`callaway_integrals`, but builds each sample's rule on the fly.
@@ -207,7 +208,7 @@ def callaway_integrals_free(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q, 
                          lin_width, bt, bq, out, s)
 
 
-@njit(cache=True, fastmath=_FAST, error_model=_NP)
+@jit(fastmath=_FAST, error_model=_NP)
 def callaway_integrals_free_serial(x_top, res, nrm, log_t, log_q, log_w, lin_t, lin_q,
                                    x_switch, eps_low, lin_width, bt, bq,
                                    out):  # pragma: no cover - compiled
@@ -217,7 +218,7 @@ def callaway_integrals_free_serial(x_top, res, nrm, log_t, log_q, log_w, lin_t, 
                          lin_width, bt, bq, out, s)
 
 
-@njit(cache=True, parallel=True, fastmath=_FAST, error_model=_NP)
+@jit(parallel=True, fastmath=_FAST, error_model=_NP)
 def callaway_integrals_nodes(x, wq, count, x_s, grid, res, nrm, res_nodes, nrm_nodes, res_low,
                              nrm_low, bt, bq, out):  # pragma: no cover - compiled
     """As :func:`callaway_integrals`, with rates that are not polynomials in x.

@@ -145,7 +145,7 @@ def load_config(path: str | Path, overrides: Sequence[str] = ()) -> Config:
     from kappa.io.yamlfile import load_yaml
 
     path = Path(path)
-    data = load_yaml(path)
+    data = load_yaml(path, what="config")
     if data is None:
         data = {}
     if not isinstance(data, dict):
@@ -167,7 +167,7 @@ def parse_override(item: str) -> tuple[str, Any]:
     if not key:
         raise ConfigError("--set", item, "must be KEY=VALUE with a dotted key")
     try:
-        value = load_yaml_text(text, f"--set {key}") if text.strip() else None
+        value = load_yaml_text(text, source=f"--set {key}") if text.strip() else None
     except ConfigError:
         value = text.strip()
     if value is None:

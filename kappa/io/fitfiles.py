@@ -199,7 +199,7 @@ def read_series(path: str | Path, *, nan: str = "raise",
 
     path = Path(path)
     base = path.parent
-    data = load_yaml(path)
+    data = load_yaml(path, what="series file")
     if not isinstance(data, dict):
         raise ConfigError("series", data, "must be a mapping with config, shared, per_sample, "
                           "samples")

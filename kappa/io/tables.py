@@ -11,7 +11,7 @@ import csv
 import io
 import math
 import re
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -86,10 +86,20 @@ def parse_header(text: str, source: str) -> tuple[str, str]:
     return match.group(1), match.group(2)
 
 
+_BLOCK = 65_536  # rows parsed into one numpy block while reading
+
+
+def _data_lines(fh) -> Iterator[str]:
+    for line in fh:
+        if line.strip() and not line.lstrip().startswith("#"):
+            yield line
+
+
 def read_table(path: str | Path) -> Table:
     """Read a comma-separated table with one header row of ``name [unit]`` columns.
 
-    Lines starting with ``#`` are comments. Blank cells become NaN.
+    Lines starting with ``#`` are comments. Blank cells become NaN. The file is read row by
+    row into numpy blocks, so memory stays close to that of the final arrays.
 
     Raises
     ------
@@ -100,38 +110,58 @@ def read_table(path: str | Path) -> Table:
     path = Path(path)
     source = path.name
     try:
-        text = path.read_text(encoding="utf-8-sig")
+        with open(path, encoding="utf-8-sig", newline="") as fh:
+            return _read_rows(csv.reader(_data_lines(fh)), source)
     except OSError as exc:
         raise DataError(str(path), allowed=f"cannot read the file ({exc.strerror})") from None
     except UnicodeDecodeError:
         raise DataError(str(path), allowed="not a text (UTF-8) CSV file") from None
-    lines = [ln for ln in text.splitlines() if ln.strip() and not ln.lstrip().startswith("#")]
-    if not lines:
+    except csv.Error as exc:
+        raise DataError(str(path), allowed=f"not a readable CSV file ({exc})") from None
+
+
+def _read_rows(reader, source: str) -> Table:
+    header = next(reader, None)
+    if header is None:
         raise DataError(source, allowed="the file is empty; needs a header row and data rows")
-    rows = list(csv.reader(io.StringIO("\n".join(lines))))
-    headers = [h.strip() for h in rows[0]]
+    headers = [h.strip() for h in header]
     names: list[tuple[str, str]] = []
     for h in headers:
         name, unit = parse_header(h, source)
         if any(name == n for n, _ in names):
             raise DataError(f"{source}, header", h, "each column name may appear only once")
         names.append((name, unit))
-    data = np.full((len(rows) - 1, len(headers)), np.nan)
+    ncol = len(headers)
+    blocks: list[np.ndarray] = []
+    blanks: list[np.ndarray] = []
+    data = np.full((_BLOCK, ncol), np.nan)
     blank = np.zeros(data.shape, dtype=bool)
-    for i, row in enumerate(rows[1:]):
-        if len(row) != len(headers):
+    k = 0
+    for i, row in enumerate(reader):
+        if len(row) != ncol:
             raise DataError(f"{source}, row {i + 2}", ",".join(row),
-                            f"has {len(row)} cells; the header has {len(headers)}")
+                            f"has {len(row)} cells; the header has {ncol}")
         for j, cell in enumerate(row):
             cell = cell.strip()
             if cell == "":
-                blank[i, j] = True
+                blank[k, j] = True
                 continue
             try:
-                data[i, j] = float(cell)
+                data[k, j] = float(cell)
             except ValueError:
                 raise DataError(f"{source}, row {i + 2}, column '{headers[j]}'", cell,
                                 "must be a number (or blank)") from None
+        k += 1
+        if k == _BLOCK:
+            blocks.append(data)
+            blanks.append(blank)
+            data = np.full((_BLOCK, ncol), np.nan)
+            blank = np.zeros(data.shape, dtype=bool)
+            k = 0
+    blocks.append(data[:k])
+    blanks.append(blank[:k])
+    data = np.concatenate(blocks) if len(blocks) > 1 else blocks[0]
+    blank = np.concatenate(blanks) if len(blanks) > 1 else blanks[0]
     if data.shape[0] == 0:
         raise DataError(source, allowed="has a header but no data rows")
     columns = {
@@ -154,24 +184,37 @@ def _fmt(value: float) -> str:
     return f"{float(value):.8g}"
 
 
-def format_table(columns: Sequence[tuple[str, Iterable]]) -> str:
-    """Return CSV text for ``[(header, values), ...]`` (headers already ``name [unit]``)."""
-    headers = [h for h, _ in columns]
-    cols = [list(v) for _, v in columns]
+def _check_lengths(columns: Sequence[tuple[str, Iterable]]) -> tuple[list, int]:
+    cols = [v if hasattr(v, "__len__") and hasattr(v, "__getitem__") else list(v)
+            for _, v in columns]
     n = len(cols[0]) if cols else 0
     if any(len(c) != n for c in cols):
         raise ValueError("all columns must have the same length")
+    return cols, n
+
+
+def _write(fh, columns: Sequence[tuple[str, Iterable]], block: int = 10_000) -> None:
+    cols, n = _check_lengths(columns)
+    writer = csv.writer(fh, lineterminator="\n")
+    writer.writerow([h for h, _ in columns])
+    for a in range(0, n, block):
+        b = min(n, a + block)
+        cells = [[_fmt(v) for v in (c[a:b].tolist() if isinstance(c, np.ndarray) else c[a:b])]
+                 for c in cols]
+        writer.writerows(zip(*cells, strict=True))
+
+
+def format_table(columns: Sequence[tuple[str, Iterable]]) -> str:
+    """Return CSV text for ``[(header, values), ...]`` (headers already ``name [unit]``)."""
     buf = io.StringIO()
-    writer = csv.writer(buf, lineterminator="\n")
-    writer.writerow(headers)
-    for i in range(n):
-        writer.writerow([_fmt(c[i]) for c in cols])
+    _write(buf, columns)
     return buf.getvalue()
 
 
 def write_table(path: str | Path, columns: Sequence[tuple[str, Iterable]]) -> None:
-    """Write ``[(header, values), ...]`` as a CSV file."""
-    Path(path).write_text(format_table(columns), encoding="utf-8")
+    """Write ``[(header, values), ...]`` as a CSV file, block by block (little memory)."""
+    with open(path, "w", encoding="utf-8", newline="") as fh:
+        _write(fh, columns)
 
 
 def axis_columns(axes) -> list[str]:

@@ -13,7 +13,13 @@ import re
 
 from kappa.errors import ConfigError, KappaError
 
-__all__ = ["registry", "parse_quantity", "parse_unit", "unit_factor", "format_quantity"]
+__all__ = ["registry", "parse_quantity", "parse_unit", "unit_factor", "format_quantity",
+           "parse_window", "MAX_UNIT_LENGTH", "MAX_EXPONENT"]
+
+#: Longest unit expression handed to pint [characters] (``W/(m K)`` has 7).
+MAX_UNIT_LENGTH = 100
+#: Largest magnitude of an exponent in a unit expression (``cm^-3``, ``angstrom**3``).
+MAX_EXPONENT = 12
 
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?inf|nan)\s*(.*?)\s*$",
                      re.IGNORECASE)
@@ -22,9 +28,16 @@ _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?inf|n
 @functools.lru_cache(maxsize=1)
 def registry():
     """Return the shared pint unit registry (built on first use, then cached)."""
+    import os
+
     import pint
 
-    ureg = pint.UnitRegistry(cache_folder=":auto:")
+    from kappa.core.cache import cache_root, writable_folder
+
+    root, _ = cache_root()
+    folder = os.path.join(root, "pint") if root else ""
+    # the parsed definitions are cached only to start faster; without a writable folder, none
+    ureg = pint.UnitRegistry(cache_folder=folder if writable_folder(folder) else None)
     # Spellings common in lab files that pint does not know by default.
     ureg.define("Ohm = ohm")
     return ureg
@@ -48,6 +61,30 @@ def normalize_unit(text: str) -> str:
     return _EXPONENT.sub(r"^\1", t)
 
 
+_POWER = re.compile(r"\*\*|\^")
+_EXPONENT_VALUE = re.compile(r"\s*(\()?\s*([-+]?\d+(?:\.\d*)?)\s*(\))?")
+
+
+def _problem(text: str) -> str | None:
+    """Why a unit expression is refused before it reaches pint (None: it may be parsed).
+
+    pint evaluates ``m**2**2**2**2**2`` as a tower of powers (a number with more digits than
+    memory holds), so exponents are limited to plain numbers of at most MAX_EXPONENT, written
+    once, and the expression to MAX_UNIT_LENGTH characters.
+    """
+    if len(text) > MAX_UNIT_LENGTH:
+        return f"a unit expression of at most {MAX_UNIT_LENGTH} characters"
+    normal = normalize_unit(text)
+    for m in _POWER.finditer(normal):
+        e = _EXPONENT_VALUE.match(normal, m.end())
+        rest = normal[e.end():] if e else ""
+        if (e is None or bool(e.group(1)) != bool(e.group(3)) or abs(float(e.group(2))) > MAX_EXPONENT
+                or _POWER.match(rest.lstrip())):
+            return (f"exponents in units must be single numbers between -{MAX_EXPONENT} and "
+                    f"{MAX_EXPONENT} (e.g. 'angstrom**3', '1/m^3', 'cm^-3')")
+    return None
+
+
 @functools.lru_cache(maxsize=512)
 def _unit(text: str):
     ureg = registry()
@@ -57,8 +94,12 @@ def _unit(text: str):
 def parse_unit(text: str, key: str, *, error: type[KappaError] = ConfigError):
     """Parse a unit expression such as ``"W/(m K)"`` and return the pint unit.
 
-    Raises ``error`` naming ``key`` when the unit is unknown.
+    Raises ``error`` naming ``key`` when the unit is unknown or refused (too long, or an
+    exponent that is not a plain number of at most MAX_EXPONENT).
     """
+    problem = _problem(text)
+    if problem:
+        raise error(key, text, problem)
     try:
         return _unit(text.strip() or "dimensionless")
     except Exception:  # pint raises several unrelated exception types for bad input
@@ -73,6 +114,9 @@ def unit_factor(unit: str, target: str, key: str, *, error: type[KappaError] = C
     ``shown`` is the value quoted in an error message (default: the unit).
     """
     shown = unit if shown is None else shown
+    problem = _problem(unit)
+    if problem:
+        raise error(key, shown, problem)
     result = _factor(unit.strip() or "dimensionless", target.strip() or "dimensionless")
     if result == "unknown":
         raise error(key, shown, "unknown unit (write e.g. 'K', 'nm', 'km/s', 'W/(m K)')")
@@ -130,7 +174,59 @@ def parse_quantity(value: object, target: str, key: str, *, bare: str | None = N
     if math.isinf(number):
         raise error(key, value, "must be finite")
     scale, offset = unit_factor(unit, target, key, error=error, shown=value)
-    return number * scale + offset
+    result = number * scale + offset
+    if not math.isfinite(result):
+        raise error(key, value, f"too large: it overflows when converted to {target}")
+    return result
+
+
+def parse_window(text: str | None, option: str = "--window", *,
+                 error: type[KappaError] = ConfigError) -> tuple[float, float] | None:
+    """Parse a temperature window ``LOW:HIGH`` into kelvin.
+
+    Bare numbers are kelvin; any temperature unit works (``300K``, ``25degC``). Either side
+    may be empty and then means open (``300K:`` is T >= 300 K, ``:600K`` is T <= 600 K).
+
+    Parameters
+    ----------
+    text : str or None
+        The window as written; None or blank means "no window".
+    option : str
+        The option or key named in error messages (``--window``).
+    error : type
+        The error class to raise (``ConfigError`` or ``DataError``).
+
+    Returns
+    -------
+    (float, float) or None
+        (low, high) [K], with ``-inf``/``inf`` for an open side; None without a window.
+
+    Examples
+    --------
+    >>> parse_window("100K:600K")
+    (100.0, 600.0)
+    >>> parse_window("300:")
+    (300.0, inf)
+    """
+    if text is None or not str(text).strip():
+        return None
+    text = str(text)
+    allowed = ("LOW:HIGH with temperatures, e.g. 100K:600K or 300:450 (kelvin); one side may "
+               "be empty")
+    if text.count(":") != 1:
+        raise error(option, text, allowed)
+    lo_t, hi_t = (part.strip() for part in text.split(":"))
+    if not lo_t and not hi_t:
+        raise error(option, text, allowed)
+    try:
+        lo = parse_quantity(lo_t, "K", option, error=error) if lo_t else -math.inf
+        hi = parse_quantity(hi_t, "K", option, error=error) if hi_t else math.inf
+    except KappaError as exc:
+        raise error(option, text, f"{exc.allowed}; write {allowed}") from None
+    if not lo < hi:
+        raise error(option, text, "the lower temperature must be below the upper one, "
+                    "e.g. 300K:450K")
+    return lo, hi
 
 
 def format_quantity(value: float, unit: str, digits: int = 12) -> str:
@@ -170,22 +266,3 @@ def convert(value, unit: str, target: str):
         return value
     scale, offset = unit_factor(unit, target, "unit")
     return value * scale + offset
-
-
-def parse_window(text: str | None, option: str = "--window") -> tuple[float, float] | None:
-    """``"100K:600K"`` → (100.0, 600.0) [K]; either side may be empty (open); bare numbers are
-    kelvin and ``degC`` works. None or blank → None."""
-    import math as _math
-
-    if text is None or not str(text).strip():
-        return None
-    text = str(text)
-    allowed = "must be LOW:HIGH with temperatures, e.g. 100K:600K (one side may be empty)"
-    if text.count(":") != 1:
-        raise ConfigError(option, text, allowed)
-    lo_t, hi_t = (s.strip() for s in text.split(":"))
-    lo = parse_quantity(lo_t, "K", option) if lo_t else -_math.inf
-    hi = parse_quantity(hi_t, "K", option) if hi_t else _math.inf
-    if not lo < hi:
-        raise ConfigError(option, text, "the lower temperature must be below the upper one")
-    return lo, hi

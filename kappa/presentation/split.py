@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from dataclasses import fields, replace
 from typing import Any
 
 import numpy as np
@@ -11,6 +12,30 @@ from matplotlib.figure import Figure
 from kappa.workflows.split import SplitResult
 
 __all__ = ["plot_split", "plot_kappa", "plot_lorenz", "plot_zT"]
+
+#: Most temperatures drawn; longer results are thinned evenly (a figure shows no more).
+MAX_POINTS = 2000
+
+
+def _take(obj: Any, idx: np.ndarray, n: int) -> Any:
+    """``obj`` with every array field of length ``n`` reduced to the rows ``idx``."""
+    changes = {}
+    for f in fields(obj):
+        v = getattr(obj, f.name)
+        if isinstance(v, np.ndarray) and v.shape[:1] == (n,):
+            changes[f.name] = v[idx]
+    return replace(obj, **changes)
+
+
+def _thinned(result: SplitResult) -> SplitResult:
+    n = result.temperature.size
+    if n <= MAX_POINTS:
+        return result
+    idx = np.unique(np.linspace(0, n - 1, MAX_POINTS).round().astype(int))
+    r = _take(result, idx, n)
+    if r.bipolar is not None:
+        r = replace(r, bipolar=_take(r.bipolar, idx, n))
+    return r
 
 
 def _axes(ax: Any, figsize: tuple[float, float] = (6.0, 4.0)) -> Any:
@@ -25,7 +50,7 @@ def plot_kappa(result: SplitResult, ax: Any = None) -> Any:
     """kappa, kappa_e and kappa_L (with 68 % bands) versus T; returns the Axes."""
     ax = _axes(ax)
     r = result
-    T = r.T
+    T = r.temperature
     ax.plot(T, r.kappa, "o-", color="k", ms=3, label=r"$\kappa$ measured")
     ax.plot(T, r.kappa_e, "-", color="tab:orange", label=r"$\kappa_e = L\sigma T$")
     ax.fill_between(T, r.kappa_e_low, r.kappa_e_high, color="tab:orange", alpha=0.2, lw=0)
@@ -58,8 +83,8 @@ def plot_lorenz(result: SplitResult, ax: Any = None) -> Any:
     """Lorenz number L(T) with its 68 % band; returns the Axes."""
     ax = _axes(ax)
     r = result
-    ax.plot(r.T, r.lorenz * 1e8, "-", color="tab:purple", label=f"L ({r.lorenz_model})")
-    ax.fill_between(r.T, r.lorenz_low * 1e8, r.lorenz_high * 1e8, color="tab:purple",
+    ax.plot(r.temperature, r.lorenz * 1e8, "-", color="tab:purple", label=f"L ({r.lorenz_model})")
+    ax.fill_between(r.temperature, r.lorenz_low * 1e8, r.lorenz_high * 1e8, color="tab:purple",
                     alpha=0.2, lw=0)
     ax.axhline(2.443, color="tab:gray", ls="--", lw=0.8, label="degenerate 2.44")
     ax.axhline(1.485, color="tab:gray", ls=":", lw=0.8, label="non-degenerate 1.49")
@@ -77,18 +102,23 @@ def plot_zT(result: SplitResult, ax: Any = None) -> Any:
         ax.text(0.5, 0.5, "no Seebeck data: zT not computed", ha="center", va="center",
                 transform=ax.transAxes)
     else:
-        ax.plot(r.T, r.zT, "-", color="tab:red")
-        ax.fill_between(r.T, r.zT_low, r.zT_high, color="tab:red", alpha=0.2, lw=0)
+        ax.plot(r.temperature, r.zT, "-", color="tab:red")
+        ax.fill_between(r.temperature, r.zT_low, r.zT_high, color="tab:red", alpha=0.2, lw=0)
     ax.set_xlabel("T [K]")
     ax.set_ylabel("zT [1]")
     return ax
 
 
 def plot_split(result: SplitResult, title: str = "") -> Figure:
-    """Three panels: kappa/kappa_e/kappa_L with bands, L(T), zT(T). Returns a new Figure."""
+    """Three panels: kappa/kappa_e/kappa_L with bands, L(T), zT(T). Returns a new Figure.
+
+    Results with more than :data:`MAX_POINTS` temperatures are drawn at that many, evenly
+    spread (the table keeps every row).
+    """
     fig = Figure(figsize=(6.4, 9.0), layout="constrained")
     FigureCanvasAgg(fig)
     a1, a2, a3 = fig.subplots(3, 1, sharex=True, height_ratios=[2.2, 1, 1])
+    result = _thinned(result)
     plot_kappa(result, a1)
     plot_lorenz(result, a2)
     plot_zT(result, a3)

@@ -1,24 +1,15 @@
-"""Measured transport data: reading, validating and merging onto one temperature grid.
+"""Measured transport data: validating and merging onto one temperature grid (no I/O).
 
-Accepted columns (header ``name [unit]``; the unit is converted, any unit of the right
-dimension works):
-
-==============  ===========================  ===========================================
-name            quantity                     example units
-==============  ===========================  ===========================================
-``T``           temperature                  ``K``, ``degC``
-``kappa``       total thermal conductivity   ``W/(m K)``, ``mW/(cm K)``
-``D``           thermal diffusivity          ``mm^2/s``, ``cm^2/s``
-``rho``         density (not resistivity)    ``g/cm^3``, ``kg/m^3``
-``cp``          specific heat capacity       ``J/(g K)``, ``J/(kg K)``
-``sigma``       electrical conductivity      ``S/cm``, ``S/m``
-``resistivity`` electrical resistivity       ``mOhm cm``, ``uOhm m``
-``S``           Seebeck coefficient          ``uV/K``, ``V/K``
-==============  ===========================  ===========================================
+The quantities (canonical names, SI units; see :data:`QUANTITIES`): ``T`` temperature,
+``kappa`` total thermal conductivity, ``D`` thermal diffusivity, ``rho`` density, ``cp``
+specific heat capacity, ``sigma`` electrical conductivity, ``resistivity`` electrical
+resistivity, ``S`` Seebeck coefficient. Files are read, their column names and units
+understood, by :mod:`kappa.io.measurements`; this module receives :class:`MeasuredFile`
+objects (or arrays) in SI units.
 
 The thermal conductivity is either ``kappa`` or the flash trio ``D``, ``rho``, ``cp``
 (kappa = D rho cp); ``cp`` may be replaced by Dulong-Petit from a chemical formula. The
-electrical conductivity is ``sigma`` or ``resistivity`` (one of them). Other columns are ignored.
+electrical conductivity is ``sigma`` or ``resistivity`` (one of them).
 
 Rules for merging (one or more files):
 
@@ -34,25 +25,47 @@ Rules for merging (one or more files):
   or NaN temperature is treated the same way.
 * Temperatures must be > 0 K and strictly increasing in each file; kappa, D, rho, cp and
   resistivity must be > 0, sigma >= 0; at least 3 rows must remain on the common grid.
+
+Plausibility (see :data:`PLAUSIBLE`): a value that no solid shows prints one warning per
+quantity (most often a unit mix-up, e.g. a Seebeck column in V/K labelled uV/K); a value that
+cannot be physical at all (|S| above 1 V/K, or a number that is not finite after the unit
+conversion) is an error naming file, row and column.
 """
 
 from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, field
-from pathlib import Path
 
 import numpy as np
 from numpy.typing import ArrayLike
 
 from kappa.core.composition import dulong_petit_heat_capacity, mean_molar_mass
 from kappa.errors import DataError, warn
-from kappa.io.tables import Table, read_table
 
-__all__ = ["Measurements", "QUANTITIES", "read_measurements", "measurements_from_arrays",
-           "NAN_POLICIES"]
+__all__ = ["Measurements", "MeasuredColumn", "MeasuredFile", "QUANTITIES", "merge_files",
+           "measurements_from_arrays", "NAN_POLICIES", "PLAUSIBLE", "SEEBECK_IMPOSSIBLE"]
 
 NAN_POLICIES = ("raise", "omit")
+
+#: What solids show, in SI units: (low, high, what lies beyond). Outside, kappa warns (one line
+#: per quantity) and continues. Basis (common practice, values from memory): the largest
+#: Seebeck coefficients of semiconductors near room temperature are below about 1-2 mV/K
+#: (larger values occur only at cryogenic temperatures, e.g. phonon drag); silver, the best
+#: conductor at room temperature, has sigma = 6.3e7 S/m, and a sample below 1e-6 S/m is an
+#: insulator for which the split means nothing; diamond conducts heat best at room temperature
+#: with about 2,000 W/(m K), and dense solids stay above about 0.01 W/(m K) (aerogels reach
+#: about 0.015); few measurements go above 3,000 K.
+PLAUSIBLE: dict[str, tuple[float, float, str]] = {
+    "S": (0.0, 2.0e-3, "more than any solid shows at measurement temperatures"),
+    "sigma": (1.0e-6, 1.0e8, "outside what solids show (silver: 6.3e7 S/m; below 1e-6 S/m "
+              "an insulator)"),
+    "kappa": (0.01, 3000.0, "outside what solids show (diamond: about 2,000 W/(m K); dense "
+              "solids above 0.01)"),
+    "T": (0.0, 3000.0, "above what transport measurements reach"),
+}
+#: |S| above this [V/K] cannot be physical: an error (1 V/K, common practice, no source).
+SEEBECK_IMPOSSIBLE = 1.0
 
 
 @dataclass(frozen=True)
@@ -79,9 +92,6 @@ QUANTITIES: dict[str, _Quantity] = {
     )
 }
 
-_ACCEPTED = ("T [K], kappa [W/(m K)] or D [mm^2/s] + rho [g/cm^3] + cp [J/(g K)], "
-             "sigma [S/cm] or resistivity [mOhm cm], S [uV/K]")
-
 
 @dataclass(frozen=True)
 class Measurements:
@@ -89,11 +99,11 @@ class Measurements:
 
     Attributes
     ----------
-    T : numpy.ndarray
+    temperature : numpy.ndarray
         Temperature [K], strictly increasing.
     kappa : numpy.ndarray
         Total thermal conductivity [W/(m K)] (measured, or D rho cp).
-    sigma : numpy.ndarray
+    electrical_conductivity : numpy.ndarray
         Electrical conductivity [S/m] (measured, or 1/resistivity).
     seebeck : numpy.ndarray or None
         Seebeck coefficient [V/K] (with its sign), None if not given.
@@ -109,9 +119,9 @@ class Measurements:
         Other things done that the user should know (interpolation, constant density).
     """
 
-    T: np.ndarray
+    temperature: np.ndarray
     kappa: np.ndarray
-    sigma: np.ndarray
+    electrical_conductivity: np.ndarray
     seebeck: np.ndarray | None = None
     diffusivity: np.ndarray | None = None
     density: np.ndarray | None = None
@@ -135,29 +145,59 @@ class _Series:
 
 
 @dataclass
-class _Col:
-    values: np.ndarray  # SI
-    blank: np.ndarray  # cell was empty ("not measured here")
-    where: str  # "file, column 'header'"
-    raw: np.ndarray  # as written, for messages
+class MeasuredColumn:
+    """One measured column in SI units, as read (before any check).
+
+    Attributes
+    ----------
+    values : numpy.ndarray
+        Values in the SI unit of the quantity (NaN for blank and ``nan`` cells).
+    blank : numpy.ndarray
+        Bool per row: the cell was empty ("not measured here"), not written ``nan``.
+    where : str
+        ``file, column 'header'`` for messages.
+    raw : numpy.ndarray
+        The values as written (before unit conversion), for messages.
+    """
+
+    values: np.ndarray
+    blank: np.ndarray
+    where: str
+    raw: np.ndarray
 
 
 @dataclass
-class _Source:
+class MeasuredFile:
+    """One file's measured columns (canonical quantity names, see :data:`QUANTITIES`).
+
+    Attributes
+    ----------
+    label : str
+        The file name, for messages.
+    T : MeasuredColumn
+        The temperature column [K].
+    rows : numpy.ndarray
+        Row number (or array index) of each value, for messages.
+    columns : dict
+        Quantity name -> column, for the other quantities found.
+    row_word : str
+        ``row`` (files) or ``index`` (arrays).
+    """
+
     label: str
-    T: _Col
-    rows: np.ndarray  # row number shown in messages
-    columns: dict[str, _Col]
+    T: MeasuredColumn
+    rows: np.ndarray
+    columns: dict[str, MeasuredColumn]
     row_word: str = "row"
 
-    def at(self, col: _Col, i: int) -> str:
+    def at(self, col: MeasuredColumn, i: int) -> str:
         return f"{col.where}, {self.row_word} {self.rows[i]}"
 
-    def take(self, keep: np.ndarray) -> _Source:
-        def sub(c: _Col) -> _Col:
-            return _Col(c.values[keep], c.blank[keep], c.where, c.raw[keep])
+    def take(self, keep: np.ndarray) -> MeasuredFile:
+        def sub(c: MeasuredColumn) -> MeasuredColumn:
+            return MeasuredColumn(c.values[keep], c.blank[keep], c.where, c.raw[keep])
 
-        return _Source(self.label, sub(self.T), self.rows[keep],
+        return MeasuredFile(self.label, sub(self.T), self.rows[keep],
                        {k: sub(c) for k, c in self.columns.items()}, self.row_word)
 
 
@@ -165,97 +205,15 @@ def _fmt_T(t: float) -> str:
     return f"{t:.6g} K"
 
 
-def _convert(table: Table, name: str) -> _Col:
-    q = QUANTITIES[name]
-    col = table.columns[name]
-    where = f"{table.source}, column '{col.header}'"
-    try:
-        values = table.get(name, q.si)
-    except DataError as exc:
-        if "wrong dimension" not in str(exc.allowed):
-            raise
-        hint = ""
-        if name == "rho":
-            hint = ("; 'rho' with a density unit is the density, with a resistivity unit "
-                    "(e.g. mOhm cm) the electrical resistivity")
-        raise DataError(where, col.unit,
-                        f"wrong dimension for the {q.what}: use e.g. {q.examples}{hint}") from None
-    blank = col.blank if col.blank is not None else np.zeros(len(values), dtype=bool)
-    return _Col(values, blank, where, col.values)
-
-
-def _read(path: str | Path) -> Table:
-    try:
-        return read_table(path)
-    except DataError as exc:
-        if str(exc.allowed).startswith("every column header"):
-            raise DataError(exc.key, exc.value,
-                            f"every column header must be 'name [unit]'; accepted: {_ACCEPTED}"
-                            ) from None
-        raise
-
-
-#: Other column names accepted for each quantity (exact spelling; the unit decides for 'rho').
-ALIASES: dict[str, tuple[str, ...]] = {
-    "T": ("temperature", "Temperature", "temp"),
-    "kappa": ("kappa_total", "kappa_tot", "thermal_conductivity", "k_total"),
-    "D": ("diffusivity", "thermal_diffusivity", "alpha_D"),
-    "rho": ("density", "Density"),
-    "cp": ("Cp", "c_p", "C_p", "specific_heat", "heat_capacity"),
-    "sigma": ("sigma_e", "electrical_conductivity", "el_conductivity"),
-    "resistivity": ("rho_e", "electrical_resistivity", "Resistivity"),
-    "S": ("seebeck", "Seebeck", "seebeck_coefficient", "Seebeck_coefficient"),
-}
-
-
-def _canonical(table: Table) -> Table:
-    """Rename accepted alternative column names to the canonical ones.
-
-    A column named ``rho`` whose unit is a resistivity (e.g. ``rho [mOhm cm]``) is read as the
-    electrical resistivity; with a density unit it is the density.
-    """
-    from dataclasses import replace
-
-    from kappa.io.units import registry
-
-    lookup = {alias: name for name, aliases in ALIASES.items() for alias in aliases}
-    renamed: dict[str, object] = {}
-    for col in table.columns.values():
-        name = lookup.get(col.name, col.name)
-        if col.name == "rho":
-            try:
-                dim = registry().parse_units(col.unit.replace("µ", "u").replace("μ", "u"))
-                if dim.dimensionality == registry().parse_units("ohm m").dimensionality:
-                    name = "resistivity"
-            except Exception:  # an unknown unit is reported when the column is converted
-                pass
-        if name in renamed:
-            raise DataError(f"{table.source}, column '{col.header}'", col.name,
-                            f"gives the same quantity as column '{renamed[name].header}'; "
-                            "keep one of them")
-        renamed[name] = replace(col, name=name)
-    return Table(source=table.source, columns=renamed)
-
-
-def _source_from_table(table: Table) -> _Source:
-    table = _canonical(table)
-    if "T" not in table:
-        have = ", ".join(c.header for c in table.columns.values())
-        raise DataError(table.source, "no column 'T [...]'",
-                        f"every file needs a temperature column, e.g. 'T [K]' or 'T [degC]'; "
-                        f"the file has: {have}")
-    T = _convert(table, "T")
-    columns = {name: _convert(table, name) for name in QUANTITIES if name != "T" and name in table}
-    return _Source(label=table.source, T=T, rows=np.arange(2, len(T.values) + 2), columns=columns)
-
-
-def _apply_nan_policy(src: _Source, nan: str, dropped: list[str]) -> _Source:
+def _apply_nan_policy(src: MeasuredFile, nan: str, dropped: list[str]) -> MeasuredFile:
     """Drop (omit) or reject (raise) rows with NaN cells (not blank cells) or a missing T."""
     for col in (src.T, *src.columns.values()):
         inf = np.isinf(col.values)
         if inf.any():
             i = int(np.flatnonzero(inf)[0])
-            raise DataError(src.at(col, i), col.raw[i], "must be finite")
+            raw = float(col.raw[i])
+            raise DataError(src.at(col, i), col.raw[i], "must be finite" if np.isinf(raw) else
+                            "too large: not a finite number after conversion to SI units")
     bad = np.isnan(src.T.values)
     reason = ["missing temperature" if b else "" for b in bad]
     for col in src.columns.values():
@@ -278,7 +236,7 @@ def _apply_nan_policy(src: _Source, nan: str, dropped: list[str]) -> _Source:
     return src.take(~bad)
 
 
-def _check_source(src: _Source) -> None:
+def _check_source(src: MeasuredFile) -> None:
     T = src.T.values
     if T.size == 0:
         raise DataError(src.label, "no rows", "needs at least 3 rows with data")
@@ -293,6 +251,14 @@ def _check_source(src: _Source) -> None:
         raise DataError(src.at(src.T, i), src.T.raw[i],
                         f"{kind} the temperature of {src.row_word} {src.rows[i - 1]}; "
                         "temperatures must be strictly increasing, without duplicates")
+    seebeck = src.columns.get("S")
+    if seebeck is not None:
+        bad = np.abs(seebeck.values) > SEEBECK_IMPOSSIBLE
+        if bad.any():
+            i = int(np.flatnonzero(bad)[0])
+            raise DataError(src.at(seebeck, i), seebeck.raw[i],
+                            f"|S| = {abs(seebeck.values[i]):.3g} V/K cannot be physical (solids "
+                            "stay below a few mV/K); is the unit in the header right?")
     for name, col in src.columns.items():
         rule = QUANTITIES[name].positive
         if not rule:
@@ -305,7 +271,7 @@ def _check_source(src: _Source) -> None:
                             f"the {QUANTITIES[name].what} must be {words}")
 
 
-def _series(sources: Sequence[_Source]) -> dict[str, _Series]:
+def _series(sources: Sequence[MeasuredFile]) -> dict[str, _Series]:
     found: dict[str, _Series] = {}
     for src in sources:
         for name, col in src.columns.items():
@@ -317,7 +283,7 @@ def _series(sources: Sequence[_Source]) -> dict[str, _Series]:
     return found
 
 
-def _merge(sources: Sequence[_Source], composition: str | None,
+def _merge(sources: Sequence[MeasuredFile], composition: str | None,
            dropped: list[str]) -> Measurements:
     labels = ", ".join(s.label for s in sources)
     found = _series(sources)
@@ -410,12 +376,39 @@ def _merge(sources: Sequence[_Source], composition: str | None,
     if seebeck is not None and np.any(seebeck > 0) and np.any(seebeck < 0):
         warn("the Seebeck coefficient changes sign within the data: mixed or bipolar "
              "conduction; single-band Lorenz numbers do not apply near the sign change")
+    where = {k: s.where for k, s in found.items()}
+    thermal = where.get("kappa") or ("D rho cp from " + ", ".join(
+        where[k] for k in ("D", "rho", "cp") if k in where))
+    electrical = where.get("sigma") or ("1/resistivity from " + where.get("resistivity", ""))
+    _plausibility("T", T, base.where, "K", 1.0)
+    _plausibility("kappa", kappa, thermal, "W/(m K)", 1.0)
+    _plausibility("sigma", sigma, electrical, "S/m", 1.0)
+    if seebeck is not None:
+        _plausibility("S", np.abs(seebeck), where["S"], "uV/K", 1e6)
     return Measurements(
-        T=T, kappa=kappa, sigma=sigma, seebeck=seebeck, diffusivity=D, density=rho,
+        temperature=T, kappa=kappa, electrical_conductivity=sigma, seebeck=seebeck,
+        diffusivity=D, density=rho,
         heat_capacity=cp, heat_capacity_source=cp_source, composition=composition,
         sources={k: s.where for k, s in found.items()}, dropped=tuple(dropped),
         notes=tuple(notes),
     )
+
+
+def _plausibility(name: str, values: np.ndarray, where: str, unit: str, scale: float) -> None:
+    """One warning if ``values`` leave what solids show (see PLAUSIBLE)."""
+    low, high, words = PLAUSIBLE[name]
+    above, below = values > high, values < low
+    if not (above.any() or below.any()):
+        return
+    extreme = float(np.max(values)) if above.any() else float(np.min(values))
+    limit = high if above.any() else low
+    side = "above" if above.any() else "below"
+    what = QUANTITIES[name].what
+    hint = "; is the unit right?" if name != "T" else ""
+    if name == "S" and above.any() and extreme > 100 * high:
+        hint = "; is the unit right (a column in V/K labelled uV/K gives values 1e6 times too large)?"
+    warn(f"{where}: the {what} reaches {extreme * scale:.4g} {unit}, {side} "
+         f"{limit * scale:,.6g} {unit}: {words}{hint}")
 
 
 def _check_nan_policy(nan: str) -> None:
@@ -423,49 +416,35 @@ def _check_nan_policy(nan: str) -> None:
         raise DataError("--nan", nan, "raise or omit")
 
 
-def read_measurements(paths: str | Path | Sequence[str | Path], *, nan: str = "raise",
-                      composition: str | None = None) -> Measurements:
-    """Read one or more measurement CSV files and merge them onto one temperature grid.
+def merge_files(files: Sequence[MeasuredFile], *, nan: str = "raise",
+                composition: str | None = None) -> Measurements:
+    """Validate measured files (already in SI units) and merge them onto one grid.
 
-    Parameters
-    ----------
-    paths : path or sequence of paths
-        CSV files with ``name [unit]`` headers (see the module docstring for the columns).
-    nan : {'raise', 'omit'}
-        What to do with NaN cells (blank cells are "not measured here", not NaN).
-    composition : str, optional
-        Chemical formula; when given, c_p is Dulong-Petit 3R/M for the flash trio.
-
-    Returns
-    -------
-    Measurements
-
-    Raises
-    ------
-    DataError
-        Any bad input, naming file, row or column and what is allowed.
+    Applies the NaN policy, checks every file (temperatures, signs, impossible values) and
+    merges as described in the module docstring. Files are read by
+    :func:`kappa.io.measurements.read_measurements`; arrays go through
+    :func:`measurements_from_arrays`.
     """
     _check_nan_policy(nan)
-    if isinstance(paths, (str, Path)):
-        paths = [paths]
     if composition:
-        mean_molar_mass(composition, "--composition")  # validate before reading
-    tables = [_read(p) for p in paths]
-    seen: dict[str, str] = {}
-    for p, t in zip(paths, tables, strict=True):
-        if t.source in seen:
-            raise DataError(str(p), t.source, f"the same file name is given twice ({seen[t.source]})")
-        seen[t.source] = str(p)
+        mean_molar_mass(composition, "--composition")  # validate before anything else
     dropped: list[str] = []
-    sources = []
-    for t in tables:
-        src = _apply_nan_policy(_source_from_table(t), nan, dropped)
-        _check_source(src)
-        sources.append(src)
-    return _merge(sources, composition, dropped)
+    checked = []
+    for f in files:
+        f = _apply_nan_policy(f, nan, dropped)
+        _check_source(f)
+        checked.append(f)
+    return _merge(checked, composition, dropped)
 
 
-def measurements_from_arrays(T: ArrayLike, *, sigma: ArrayLike | None = None,
+#: Argument names of :func:`measurements_from_arrays` for the quantities (for messages).
+_ARRAY_NAMES = {"kappa": "kappa", "D": "diffusivity", "rho": "density", "cp": "heat_capacity",
+                "sigma": "electrical_conductivity", "resistivity": "resistivity",
+                "S": "seebeck"}
+
+
+def measurements_from_arrays(temperature: ArrayLike, *,
+                             electrical_conductivity: ArrayLike | None = None,
                              resistivity: ArrayLike | None = None,
                              seebeck: ArrayLike | None = None, kappa: ArrayLike | None = None,
                              diffusivity: ArrayLike | None = None,
@@ -477,9 +456,9 @@ def measurements_from_arrays(T: ArrayLike, *, sigma: ArrayLike | None = None,
 
     Parameters
     ----------
-    T : array_like
+    temperature : array_like
         Temperature [K], strictly increasing.
-    sigma, resistivity : array_like
+    electrical_conductivity, resistivity : array_like
         Electrical conductivity [S/m] or resistivity [Ohm m] (one of them).
     seebeck : array_like, optional
         Seebeck coefficient [V/K].
@@ -494,9 +473,9 @@ def measurements_from_arrays(T: ArrayLike, *, sigma: ArrayLike | None = None,
     Measurements
     """
     _check_nan_policy(nan)
-    T = np.asarray(T, dtype=float).ravel()
+    T = np.asarray(temperature, dtype=float).ravel()
     given = {"kappa": kappa, "D": diffusivity, "rho": density, "cp": heat_capacity,
-             "sigma": sigma, "resistivity": resistivity, "S": seebeck}
+             "sigma": electrical_conductivity, "resistivity": resistivity, "S": seebeck}
     columns = {}
     for name, arr in given.items():
         if arr is None:
@@ -505,9 +484,11 @@ def measurements_from_arrays(T: ArrayLike, *, sigma: ArrayLike | None = None,
         if a.size == 1 and name == "rho":
             a = np.full(T.size, float(a[0]))
         if a.size != T.size:
-            raise DataError(name, f"{a.size} values", f"needs one value per temperature ({T.size})")
-        columns[name] = _Col(a, np.zeros(T.size, dtype=bool), f"arrays, {name}", a)
-    src = _Source(label="arrays", T=_Col(T, np.zeros(T.size, dtype=bool), "arrays, T", T),
+            raise DataError(_ARRAY_NAMES[name], f"{a.size} values",
+                            f"needs one value per temperature ({T.size})")
+        columns[name] = MeasuredColumn(a, np.zeros(T.size, dtype=bool), f"arrays, {_ARRAY_NAMES[name]}", a)
+    src = MeasuredFile(label="arrays",
+                  T=MeasuredColumn(T, np.zeros(T.size, dtype=bool), "arrays, temperature", T),
                   rows=np.arange(T.size), columns=columns, row_word="index")
     dropped: list[str] = []
     src = _apply_nan_policy(src, nan, dropped)

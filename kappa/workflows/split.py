@@ -1,8 +1,9 @@
 """Split a measured total thermal conductivity into electronic and lattice parts.
 
 kappa_e = L sigma T (Wiedemann-Franz), kappa_L = kappa - kappa_e (the bipolar part, if any, is
-inside kappa_L), zT = S^2 sigma T / kappa. The workflow composes :mod:`kappa.electronic`,
-:mod:`kappa.limits` and :mod:`kappa.measurements` and returns a :class:`SplitResult`; it reads
+inside kappa_L), zT = S^2 sigma T / kappa. The workflow composes :mod:`kappa.core.electronic`,
+:mod:`kappa.core.limits`, :mod:`kappa.workflows.measurements` and
+:mod:`kappa.workflows.bipolar` and returns a :class:`SplitResult`; it reads
 and writes no files.
 
 Uncertainty model (Monte Carlo, seeded)
@@ -20,22 +21,21 @@ Because the errors are systematic, the marginal interval at each temperature is 
 per-row model would give as well, but quantities that compare temperatures (the bipolar excess)
 see correlated errors, as they should.
 
-Bipolar check
--------------
-kappa_L = A/T + B is fitted (least squares in 1/T) on a low-temperature window: given, or
-chosen automatically as the rows up to one third of the temperature range, ending no later than
-the minimum of kappa_L, and at least 3 rows. Above the window the excess kappa_L - (A/T + B)
-is compared with its uncertainty (the Monte Carlo spread of the excess combined with the
-prediction error of the fit from its residual scatter). The onset of bipolar conduction is the
-lowest temperature above the window from which every row exceeds the extrapolation by more than
-that uncertainty; the excess there estimates the bipolar part. The Goldsmid-Sharp gap
-E_g = 2 e |S|_max T_max is reported with its caveat.
+Memory and time: the draws of the relative errors (4 x draws numbers) are made once, in the
+same order as always; the rows are then processed in chunks of at most
+:data:`CHUNK_VALUES` (row, draw) values, so memory does not grow with rows x draws (10^6 rows
+x 2,000 draws run in well under 1 GB). The bipolar check first computes its per-draw fit from
+the window rows, then streams the rows like the rest. Draws are limited to
+:data:`DRAW_RANGE`; the scattering exponent to :data:`EXPONENT_RANGE`.
+
+The bipolar check (A/T + B extrapolation, Goldsmid-Sharp gap) is in
+:mod:`kappa.workflows.bipolar`.
 """
 
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -45,22 +45,33 @@ from kappa.core.electronic import (
     LORENZ_DEGENERATE,
     LORENZ_MODELS,
     figure_of_merit,
-    goldsmid_sharp_gap,
     lorenz_kim,
     lorenz_number,
     lorenz_spb,
 )
 from kappa.core.limits import cahill_minimum
 from kappa.errors import DataError, warn
+from kappa.workflows.bipolar import BipolarCheck, bipolar_check, window_rows
 from kappa.workflows.measurements import Measurements, measurements_from_arrays
 
 __all__ = ["split", "split_measurements", "SplitResult", "BipolarCheck",
-           "DEFAULT_UNCERTAINTY", "UNCERTAINTY_KEYS", "INTERVAL"]
+           "DEFAULT_UNCERTAINTY", "UNCERTAINTY_KEYS", "INTERVAL", "DRAW_RANGE",
+           "EXPONENT_RANGE", "CHUNK_VALUES"]
 
 #: Default relative uncertainties (Alleno et al., Rev. Sci. Instrum. 86, 011301 (2015)).
 DEFAULT_UNCERTAINTY: dict[str, float] = {"kappa": 0.11, "sigma": 0.08, "S": 0.06, "L": 0.0}
-#: Accepted keys of the uncertainty mapping (``resistivity`` is an alias of ``sigma``).
+#: Accepted keys of the uncertainty mapping (``resistivity`` and ``electrical_conductivity``
+#: are aliases of ``sigma``, the electrical conductivity as in the CSV column names).
 UNCERTAINTY_KEYS: tuple[str, ...] = ("kappa", "sigma", "resistivity", "S", "L")
+_SIGMA_ALIASES = ("resistivity", "electrical_conductivity")
+#: Allowed number of Monte Carlo draws (fewer gives noisy bands; more only costs time).
+DRAW_RANGE: tuple[int, int] = (100, 100_000)
+#: Allowed scattering exponent lambda of the single-parabolic-band Lorenz number
+#: (tau ~ E^(lambda - 1/2)): the tables of Fermi-Dirac integrals are accurate there
+#: (0 acoustic phonons, 1 polar optical, 2 ionized impurities).
+EXPONENT_RANGE: tuple[float, float] = (-0.9, 4.0)
+#: Most (row, draw) values the Monte Carlo holds at once per array.
+CHUNK_VALUES: int = 1_000_000
 #: Probability content of the reported interval (+-1 sigma of a Gaussian).
 INTERVAL: float = math.erf(1.0 / math.sqrt(2.0))
 
@@ -75,58 +86,14 @@ CITATIONS = {
 
 
 @dataclass(frozen=True)
-class BipolarCheck:
-    """Result of the A/T + B extrapolation test for bipolar conduction.
-
-    Attributes
-    ----------
-    fit_window : (float, float)
-        Temperature window of the fit [K] (first and last row used).
-    window_auto : bool
-        True if the window was chosen automatically.
-    coefficients : (float, float)
-        A [W/m] and B [W/(m K)] of kappa_L = A/T + B.
-    kappa_L_fit : numpy.ndarray
-        A/T + B at every temperature [W/(m K)].
-    excess : numpy.ndarray
-        kappa_L - (A/T + B) [W/(m K)]; above the onset, the estimated bipolar part.
-    excess_err : numpy.ndarray
-        1-sigma uncertainty of the excess [W/(m K)].
-    onset : float or None
-        Onset temperature of the rise above the extrapolation [K], None if not found.
-    bipolar : numpy.ndarray
-        Bool per row: at or above the onset.
-    seebeck_max, temperature_at_seebeck_max : float or None
-        max |S| [V/K] and its temperature [K] (None without S).
-    gap : float or None
-        Goldsmid-Sharp E_g = 2 e |S|_max T_max [J] (None without an S maximum).
-    gap_note : str
-        How to read the gap estimate.
-    """
-
-    fit_window: tuple[float, float]
-    window_auto: bool
-    coefficients: tuple[float, float]
-    kappa_L_fit: np.ndarray
-    excess: np.ndarray
-    excess_err: np.ndarray
-    onset: float | None
-    bipolar: np.ndarray
-    seebeck_max: float | None = None
-    temperature_at_seebeck_max: float | None = None
-    gap: float | None = None
-    gap_note: str = ""
-
-
-@dataclass(frozen=True)
 class SplitResult:
     """Lattice/electronic split of measured data (all arrays per temperature, SI units).
 
     Attributes
     ----------
-    T : numpy.ndarray
+    temperature : numpy.ndarray
         Temperature [K].
-    kappa, sigma : numpy.ndarray
+    kappa, electrical_conductivity : numpy.ndarray
         Total thermal conductivity [W/(m K)] and electrical conductivity [S/m] (nominal).
     seebeck : numpy.ndarray or None
         Seebeck coefficient [V/K].
@@ -166,9 +133,9 @@ class SplitResult:
     notes : tuple of str
     """
 
-    T: np.ndarray
+    temperature: np.ndarray
     kappa: np.ndarray
-    sigma: np.ndarray
+    electrical_conductivity: np.ndarray
     seebeck: np.ndarray | None
     lorenz_model: str
     scattering_exponent: float
@@ -202,13 +169,13 @@ class SplitResult:
 def _resolve_uncertainty(uncertainty: Mapping[str, float] | None) -> dict[str, float]:
     out = dict(DEFAULT_UNCERTAINTY)
     for key, value in (uncertainty or {}).items():
-        if key not in UNCERTAINTY_KEYS:
+        if key not in UNCERTAINTY_KEYS and key not in _SIGMA_ALIASES:
             raise DataError("uncertainty", key, f"keys allowed: {', '.join(UNCERTAINTY_KEYS)}")
         v = float(value)
         if not (0.0 <= v <= 0.5):
             raise DataError(f"uncertainty {key}", value,
                             "a relative uncertainty between 0 and 0.5 (e.g. 0.08 for 8 %)")
-        out["sigma" if key == "resistivity" else key] = v
+        out["sigma" if key in _SIGMA_ALIASES else key] = v
     if max(out.values()) > 0.25:
         warn("relative uncertainties above 25 % make Gaussian draws near zero or negative "
              "likely; the intervals are then only indicative")
@@ -227,80 +194,131 @@ def _lorenz_name(lorenz: str | float) -> str | float:
     return value
 
 
-def _auto_window(T: np.ndarray, kappa_L: np.ndarray) -> np.ndarray:
-    n = T.size
-    last = int(np.flatnonzero(T <= T[0] + (T[-1] - T[0]) / 3.0)[-1])
-    last = min(last, int(np.argmin(kappa_L)))
-    last = max(last, 2)
-    idx = np.zeros(n, dtype=bool)
-    idx[: last + 1] = True
-    return idx
+def _whole(value: object) -> int | None:
+    """``value`` as an int if it is a whole number (2000, 2000.0, numpy integers), else None."""
+    if isinstance(value, bool):
+        return None
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)) and float(value).is_integer():
+        return int(value)
+    return None
 
 
-def _bipolar(T: np.ndarray, kappa_L: np.ndarray, kappa_L_draws: np.ndarray,
-             seebeck: np.ndarray | None, fit_window: tuple[float, float] | None
-             ) -> BipolarCheck:
-    if fit_window is None:
-        window = _auto_window(T, kappa_L)
-    else:
-        lo, hi = float(fit_window[0]), float(fit_window[1])
-        if not lo < hi:
-            raise DataError("fit_window", f"{lo:g} K:{hi:g} K", "the lower end must be below "
-                            "the upper end, e.g. 300K:450K")
-        tol = 1e-9 * hi
-        window = (T >= lo - tol) & (T <= hi + tol)
-        if window.sum() < 3:
-            raise DataError("fit_window", f"{lo:g} K:{hi:g} K",
-                            f"contains {int(window.sum())} rows of the data; needs at least 3 "
-                            f"(data span {T[0]:g} K to {T[-1]:g} K)")
-    X = np.column_stack([1.0 / T, np.ones_like(T)])
-    Xw = X[window]
-    coef, *_ = np.linalg.lstsq(Xw, kappa_L[window], rcond=None)
-    fit = X @ coef
-    excess = kappa_L - fit
-    k = int(window.sum())
-    resid = excess[window]
-    s2 = float(resid @ resid) / (k - 2) if k > 2 else 0.0
-    cov = np.linalg.inv(Xw.T @ Xw)
-    pred = np.sqrt(s2 * (1.0 + np.einsum("ij,jk,ik->i", X, cov, X)))
-    # Monte Carlo: the same fit on every draw (correlated errors largely cancel in the excess)
-    coef_d = np.linalg.pinv(Xw) @ kappa_L_draws[:, window].T  # (2, draws)
-    excess_d = kappa_L_draws - (X @ coef_d).T
-    q_lo, q_hi = np.quantile(excess_d, [(1 - INTERVAL) / 2, (1 + INTERVAL) / 2], axis=0)
-    mc = 0.5 * (q_hi - q_lo)
-    err = np.sqrt(mc**2 + pred**2)
-    above_window = T > T[window][-1]
-    exceeds = (excess > err) & above_window
-    onset = None
-    bip = np.zeros(T.size, dtype=bool)
-    cand = np.flatnonzero(above_window)
-    for i in cand:
-        if np.all(exceeds[i:]):
-            onset = float(T[i])
-            bip[i:] = True
-            break
-    s_max = t_max = gap = None
-    note = "no Seebeck data"
-    if seebeck is not None:
-        a = np.abs(seebeck)
-        i = int(np.argmax(a))
-        s_max, t_max = float(a[i]), float(T[i])
-        if i == T.size - 1:
-            gap = goldsmid_sharp_gap(s_max, t_max)
-            note = ("|S| still rises at the highest temperature: the gap is at least this "
-                    "large (a lower bound)")
-        elif i == 0:
-            note = "|S| falls from the lowest temperature on: no maximum, no gap estimate"
+def _check_run(draws: object, seed: object, scattering_exponent: object) -> tuple[int, int, float]:
+    """Validate the Monte Carlo settings and the scattering exponent."""
+    low, high = DRAW_RANGE
+    n = _whole(draws)
+    if n is None or not low <= n <= high:
+        raise DataError("draws", draws, f"a whole number of Monte Carlo draws from {low:,} to "
+                        f"{high:,}")
+    s = _whole(seed)
+    if s is None or s < 0:
+        raise DataError("seed", seed, "a whole number >= 0 (the same seed gives the same draws)")
+    try:
+        lam = float(scattering_exponent)  # type: ignore[arg-type]
+    except (TypeError, ValueError):
+        lam = math.nan
+    lo, hi = EXPONENT_RANGE
+    if not (lo <= lam <= hi):
+        raise DataError("scattering_exponent", scattering_exponent,
+                        f"from {lo:g} to {hi:g} (lambda in tau ~ E^(lambda-1/2): 0 acoustic "
+                        "phonons, 1 polar optical, 2 ionized impurities)")
+    return n, s, lam
+
+
+def _temperatures(T: np.ndarray, shown: int = 8) -> str:
+    """``300 K, 325 K, ...`` with at most ``shown`` values, then how many more."""
+    text = ", ".join(f"{t:g} K" for t in T[:shown])
+    return text + (f" and {T.size - shown} more" if T.size > shown else "")
+
+
+class _Draws:
+    """The Monte Carlo of the split, evaluated for any subset of rows.
+
+    The relative errors (one per quantity and draw, shared by all temperatures) are drawn once;
+    :meth:`rows` returns the per-draw arrays (rows, draws) of the rows asked for, computed with
+    exactly the same arithmetic for every row whichever subset it is in.
+    """
+
+    def __init__(self, m: Measurements, model: str | float, L: np.ndarray, lam: float,
+                 u: Mapping[str, float], draws: int, seed: int) -> None:
+        rng = np.random.default_rng(seed)
+        z = rng.standard_normal((4, draws))
+        self.f_k, self.f_s, self.f_S, self.f_L = (
+            (1.0 + u[key] * z[i])[None, :] for i, key in enumerate(("kappa", "sigma", "S", "L")))
+        self.m, self.model, self.L, self.lam = m, model, L, lam
+
+    def rows(self, idx: slice | np.ndarray, *, zT: bool = True) -> dict[str, np.ndarray]:
+        m = self.m
+        T = m.temperature[idx][:, None]
+        kappa_d = m.kappa[idx][:, None] * self.f_k
+        sigma_d = m.electrical_conductivity[idx][:, None] * self.f_s
+        S_d = None if m.seebeck is None else np.abs(m.seebeck[idx])[:, None] * self.f_S
+        if self.model == "spb":
+            L_d = lorenz_spb(S_d, self.lam)
+        elif self.model == "kim":
+            L_d = lorenz_kim(S_d)
         else:
-            gap = goldsmid_sharp_gap(s_max, t_max)
-            note = ("rough estimate: assumes similar majority and minority weighted mobilities "
-                    "and non-degenerate carriers; can be off by about 2x otherwise")
-    return BipolarCheck(
-        fit_window=(float(T[window][0]), float(T[window][-1])),
-        window_auto=fit_window is None, coefficients=(float(coef[0]), float(coef[1])),
-        kappa_L_fit=fit, excess=excess, excess_err=err, onset=onset, bipolar=bip,
-        seebeck_max=s_max, temperature_at_seebeck_max=t_max, gap=gap, gap_note=note,
-    )
+            L_d = np.broadcast_to(self.L[idx][:, None], kappa_d.shape)
+        L_d = L_d * self.f_L
+        kappa_e_d = L_d * sigma_d * T
+        out = {"L": L_d, "kappa_e": kappa_e_d, "kappa_L": kappa_d - kappa_e_d}
+        if S_d is not None and zT:
+            out["zT"] = S_d**2 * sigma_d * T / kappa_d
+        return out
+
+
+def _chunks(n: int, draws: int) -> list[slice]:
+    step = max(1, CHUNK_VALUES // draws)
+    return [slice(a, min(n, a + step)) for a in range(0, n, step)]
+
+
+_QS = [(1.0 - INTERVAL) / 2.0, (1.0 + INTERVAL) / 2.0]
+
+
+def _intervals(mc: _Draws, n: int, draws: int, bipolar: tuple[np.ndarray, np.ndarray] | None,
+               progress: Callable[[int], None] | None) -> dict[str, np.ndarray]:
+    """68 % intervals (low, high) per row of every Monte Carlo quantity, chunk by chunk.
+
+    ``bipolar`` = (X, coef_d): the design matrix [1/T, 1] of all rows and the per-draw A/T + B
+    coefficients (2, draws); then the half width of the interval of the excess is returned as
+    ``mc``.
+    """
+    out: dict[str, np.ndarray] = {}
+    for chunk in _chunks(n, draws):
+        d = mc.rows(chunk)
+        if bipolar is not None:
+            X, coef_d = bipolar
+            q_lo, q_hi = np.quantile(d["kappa_L"] - X[chunk] @ coef_d, _QS, axis=1)
+            out.setdefault("mc", np.empty(n))[chunk] = 0.5 * (q_hi - q_lo)
+        for key, values in d.items():
+            lo, hi = np.quantile(values, _QS, axis=1)
+            out.setdefault(key + "_lo", np.empty(n))[chunk] = lo
+            out.setdefault(key + "_hi", np.empty(n))[chunk] = hi
+        del d
+        if progress is not None:
+            progress(chunk.stop)
+    return out
+
+
+def _window_fits(mc: _Draws, X: np.ndarray, window: np.ndarray, draws: int,
+                 progress: Callable[[int], None] | None) -> np.ndarray:
+    """A and B of kappa_L = A/T + B fitted on the window rows of every draw: (2, draws).
+
+    One product pinv(X_w) @ kappa_L_draws when the window fits in one chunk; otherwise the
+    same sum accumulated chunk by chunk (equal to rounding). ``progress(rows done)``.
+    """
+    rows = np.flatnonzero(window)
+    pinv = np.linalg.pinv(X[window])  # (2, rows)
+    if rows.size * draws <= CHUNK_VALUES:
+        return pinv @ mc.rows(rows, zT=False)["kappa_L"]
+    coef = np.zeros((2, draws))
+    for chunk in _chunks(rows.size, draws):
+        coef += pinv[:, chunk] @ mc.rows(rows[chunk], zT=False)["kappa_L"]
+        if progress is not None:
+            progress(chunk.stop)
+    return coef
 
 
 def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb",
@@ -308,22 +326,26 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
                        uncertainty: Mapping[str, float] | None = None, draws: int = 2000,
                        seed: int = 0, fit_window: tuple[float, float] | None = None,
                        number_density: float | None = None,
-                       sound_velocities: Sequence[float] | None = None) -> SplitResult:
-    """Split validated :class:`~kappa.measurements.Measurements` (see :func:`split`)."""
+                       sound_velocities: Sequence[float] | None = None,
+                       progress: Callable[[int, int], None] | None = None) -> SplitResult:
+    """Split validated :class:`~kappa.workflows.measurements.Measurements` (see :func:`split`).
+
+    ``progress(done, total)``, if given, is called after each chunk of rows of the Monte
+    Carlo (``total`` = the number of rows, plus the rows of the bipolar check's window when
+    that window needs more than one chunk).
+    """
     m = measurements
     model = _lorenz_name(lorenz)
     if m.seebeck is None and model in ("spb", "kim"):
         raise DataError("S", "missing", f"a Seebeck column 'S [uV/K]' is needed for lorenz "
                         f"{model}; or choose degenerate, nondegenerate or a number")
     u = _resolve_uncertainty(uncertainty)
-    draws = int(draws)
-    if draws < 100:
-        raise DataError("draws", draws, "at least 100 Monte Carlo draws")
+    draws, seed, lam = _check_run(draws, seed, scattering_exponent)
     if (number_density is None) != (sound_velocities is None):
         raise DataError("number_density/sound_velocities", "only one given",
                         "give both for the Cahill minimum, or neither")
-    T, kappa, sigma, S = m.T, m.kappa, m.sigma, m.seebeck
-    lam = float(scattering_exponent)
+    T, kappa, sigma, S = m.temperature, m.kappa, m.electrical_conductivity, m.seebeck
+    n = T.size
     notes: list[str] = []
     cites = [CITATIONS["wf"], CITATIONS["alleno"]]
 
@@ -344,36 +366,34 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
     zT = figure_of_merit(S, sigma, kappa, T) if S is not None else None
 
     # --- Monte Carlo (one relative error per quantity and draw, all temperatures) -------------
-    rng = np.random.default_rng(seed)
-    z = rng.standard_normal((4, draws))
-    f_k, f_s, f_S, f_L = ((1.0 + u[key] * z[i])[:, None]
-                          for i, key in enumerate(("kappa", "sigma", "S", "L")))
-    kappa_d = kappa[None, :] * f_k
-    sigma_d = sigma[None, :] * f_s
-    S_d = None if S is None else np.abs(S)[None, :] * f_S
-    if model == "spb":
-        L_d = lorenz_spb(S_d, lam)
-    elif model == "kim":
-        L_d = lorenz_kim(S_d)
-    else:
-        L_d = np.broadcast_to(L, kappa_d.shape)
-    L_d = L_d * f_L
-    kappa_e_d = L_d * sigma_d * T[None, :]
-    kappa_L_d = kappa_d - kappa_e_d
-    qs = [(1.0 - INTERVAL) / 2.0, (1.0 + INTERVAL) / 2.0]
-    L_lo, L_hi = np.quantile(L_d, qs, axis=0)
-    ke_lo, ke_hi = np.quantile(kappa_e_d, qs, axis=0)
-    kl_lo, kl_hi = np.quantile(kappa_L_d, qs, axis=0)
-    zt_lo = zt_hi = None
-    if S is not None:
-        zT_d = S_d**2 * sigma_d * T[None, :] / kappa_d
-        zt_lo, zt_hi = np.quantile(zT_d, qs, axis=0)
+    mc = _Draws(m, model, L, lam, u, draws, seed)
+    check = n >= 5 or fit_window is not None
+    bipolar_draws = None
+    # progress in rows: the window rows of the bipolar check (when they need chunks), then all
+    ahead = 0
+    if check:
+        window = window_rows(T, kappa_L, fit_window)
+        if int(window.sum()) * draws > CHUNK_VALUES:
+            ahead = int(window.sum())
+    total = ahead + n
+
+    def report(offset: int) -> Callable[[int], None] | None:
+        if progress is None:
+            return None
+        return lambda done: progress(offset + done, total)
+
+    if check:
+        X = np.column_stack([1.0 / T, np.ones_like(T)])
+        coef, *_ = np.linalg.lstsq(X[window], kappa_L[window], rcond=None)
+        # the same fit on every draw (correlated errors largely cancel in the excess)
+        bipolar_draws = (X, _window_fits(mc, X, window, draws, report(0)))
+    q = _intervals(mc, n, draws, bipolar_draws, report(ahead))
 
     # --- flags -----------------------------------------------------------------------------
     nonpositive = kappa_L <= 0
     if nonpositive.any():
-        temps = ", ".join(f"{t:g} K" for t in T[nonpositive])
-        warn(f"kappa_L <= 0 at {temps}: the Lorenz number or the data are inconsistent there")
+        warn(f"kappa_L <= 0 at {_temperatures(T[nonpositive])}: the Lorenz number or the data "
+             "are inconsistent there")
     kappa_min = below = None
     if number_density is not None:
         try:
@@ -384,48 +404,49 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
         below = kappa_L < kappa_min
         cites.append(CITATIONS["cahill"])
         if below.any():
-            temps = ", ".join(f"{t:g} K" for t in T[below])
-            warn(f"kappa_L below the Cahill minimum at {temps}: check the Lorenz number, "
-                 "the data, or the minimum's inputs")
+            warn(f"kappa_L below the Cahill minimum at {_temperatures(T[below])}: check the "
+                 "Lorenz number, the data, or the minimum's inputs")
 
     # --- bipolar check ------------------------------------------------------------------------
     bip = None
-    if T.size >= 5 or fit_window is not None:
-        bip = _bipolar(T, kappa_L, kappa_L_d, S, fit_window)
+    if check:
+        bip = bipolar_check(T, kappa_L, window, coef, q["mc"], S, fit_window is None)
         if S is not None:
             cites.append(CITATIONS["gs"])
     else:
         notes.append("fewer than 5 rows: bipolar check skipped")
 
+    kl_lo, kl_hi = q["kappa_L_lo"], q["kappa_L_hi"]
     return SplitResult(
-        T=T, kappa=kappa, sigma=sigma, seebeck=S,
+        temperature=T, kappa=kappa, electrical_conductivity=sigma, seebeck=S,
         lorenz_model=model if isinstance(model, str) else "constant",
-        scattering_exponent=lam, lorenz=L, lorenz_low=L_lo, lorenz_high=L_hi,
-        kappa_e=kappa_e, kappa_e_low=ke_lo, kappa_e_high=ke_hi,
+        scattering_exponent=lam, lorenz=L, lorenz_low=q["L_lo"], lorenz_high=q["L_hi"],
+        kappa_e=kappa_e, kappa_e_low=q["kappa_e_lo"], kappa_e_high=q["kappa_e_hi"],
         kappa_L=kappa_L, kappa_L_low=kl_lo, kappa_L_high=kl_hi,
         kappa_L_err=0.5 * (kl_hi - kl_lo),
-        zT=zT, zT_low=zt_lo, zT_high=zt_hi,
+        zT=zT, zT_low=q.get("zT_lo"), zT_high=q.get("zT_hi"),
         kappa_L_degenerate=kappa_L_deg, kappa_L_kim=kappa_L_kim, eta=eta,
         kappa_min=kappa_min, nonpositive=nonpositive, below_minimum=below, bipolar=bip,
-        uncertainty=u, draws=draws, seed=int(seed), citations=tuple(cites),
+        uncertainty=u, draws=draws, seed=seed, citations=tuple(cites),
         notes=tuple(notes),
     )
 
 
-def split(T: ArrayLike, kappa: ArrayLike, sigma: ArrayLike, seebeck: ArrayLike | None = None,
-          *, lorenz: str | float = "spb", scattering_exponent: float = 0.0,
-          uncertainty: Mapping[str, float] | None = None, draws: int = 2000, seed: int = 0,
-          fit_window: tuple[float, float] | None = None, number_density: float | None = None,
-          sound_velocities: Sequence[float] | None = None) -> SplitResult:
+def split(temperature: ArrayLike, kappa: ArrayLike, electrical_conductivity: ArrayLike,
+          seebeck: ArrayLike | None = None, *, lorenz: str | float = "spb",
+          scattering_exponent: float = 0.0, uncertainty: Mapping[str, float] | None = None,
+          draws: int = 2000, seed: int = 0, fit_window: tuple[float, float] | None = None,
+          number_density: float | None = None, sound_velocities: Sequence[float] | None = None,
+          progress: Callable[[int, int], None] | None = None) -> SplitResult:
     """Split total thermal conductivity into electronic and lattice parts (arrays, SI units).
 
     Parameters
     ----------
-    T : array_like
+    temperature : array_like
         Temperature [K], strictly increasing, at least 3 values.
     kappa : array_like
         Total thermal conductivity [W/(m K)], > 0.
-    sigma : array_like
+    electrical_conductivity : array_like
         Electrical conductivity [S/m], >= 0.
     seebeck : array_like, optional
         Seebeck coefficient [V/K] (sign kept for zT, magnitude for L); needed by ``spb`` and
@@ -433,21 +454,26 @@ def split(T: ArrayLike, kappa: ArrayLike, sigma: ArrayLike, seebeck: ArrayLike |
     lorenz : {'spb', 'degenerate', 'nondegenerate', 'kim'} or float
         Lorenz model, or a constant [W Ohm K^-2].
     scattering_exponent : float
-        lambda of tau ~ E^(lambda-1/2) for ``spb``: 0 acoustic phonons (default), 1 polar
-        optical, 2 ionized impurities.
+        lambda of tau ~ E^(lambda-1/2) for ``spb``, within :data:`EXPONENT_RANGE`: 0 acoustic
+        phonons (default), 1 polar optical, 2 ionized impurities.
     uncertainty : mapping, optional
-        Relative 1-sigma uncertainties, keys ``kappa``, ``sigma`` (or ``resistivity``), ``S``,
-        ``L``; missing keys take :data:`DEFAULT_UNCERTAINTY`.
+        Relative 1-sigma uncertainties, keys ``kappa``, ``sigma`` (or ``resistivity``,
+        ``electrical_conductivity``), ``S``, ``L``; missing keys take
+        :data:`DEFAULT_UNCERTAINTY`.
     draws : int
-        Monte Carlo draws (>= 100).
+        Monte Carlo draws, within :data:`DRAW_RANGE` (100 to 100,000).
     seed : int
-        Seed of the random generator (results are reproducible).
+        Seed of the random generator, >= 0 (results are reproducible).
     fit_window : (float, float), optional
-        Temperatures [K] bounding the A/T + B fit of the bipolar check; automatic if None.
+        Temperatures [K] bounding the A/T + B fit of the bipolar check (``-inf``/``inf`` for
+        an open side); automatic if None.
     number_density : float, optional
         Atoms per volume [1/m^3] for the Cahill minimum.
     sound_velocities : sequence of float, optional
         Acoustic velocities [m/s] for the Cahill minimum (1 to 3 values).
+    progress : callable, optional
+        ``progress(done, total)`` after each chunk of rows of the Monte Carlo (in rows; see
+        :func:`split_measurements`).
 
     Returns
     -------
@@ -458,13 +484,15 @@ def split(T: ArrayLike, kappa: ArrayLike, sigma: ArrayLike, seebeck: ArrayLike |
     >>> import numpy as np
     >>> from kappa.workflows.split import split
     >>> T = np.array([300.0, 400.0, 500.0])
-    >>> r = split(T, kappa=[1.6, 1.5, 1.5], sigma=[8e4, 6e4, 5e4], seebeck=[180e-6, 200e-6,
-    ...           210e-6], draws=500)
+    >>> r = split(T, kappa=[1.6, 1.5, 1.5], electrical_conductivity=[8e4, 6e4, 5e4],
+    ...           seebeck=[180e-6, 200e-6, 210e-6], draws=500)
     >>> bool(np.all(r.kappa_L < r.kappa))
     True
     """
-    m = measurements_from_arrays(T, kappa=kappa, sigma=sigma, seebeck=seebeck)
+    m = measurements_from_arrays(temperature, kappa=kappa,
+                                 electrical_conductivity=electrical_conductivity,
+                                 seebeck=seebeck)
     return split_measurements(m, lorenz=lorenz, scattering_exponent=scattering_exponent,
                               uncertainty=uncertainty, draws=draws, seed=seed,
                               fit_window=fit_window, number_density=number_density,
-                              sound_velocities=sound_velocities)
+                              sound_velocities=sound_velocities, progress=progress)
