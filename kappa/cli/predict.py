@@ -50,17 +50,16 @@ def predict_command(
                      ] = 400,
     seed: Annotated[int, typer.Option("--seed", min=0, help="Seed of the --band draws.")] = 0,
 ) -> None:
+    from kappa.cli.run import Run
     from kappa.io.config import derived_lines, load_config
     from kappa.io.grids import parse_key_values
-    from kappa.io.outdir import check_out, default_out, output_folder
-    from kappa.io.records import model_summary, run_record, write_json
-    from kappa.io.tables import write_table
+    from kappa.io.records import model_summary
     from kappa.workflows.predict import compare, predict
 
     cfg = load_config(config, set_ or [])
     T = cfg.require_temperature()
-    out = out or default_out(config, "predict")
-    check_out(out, force=force, inputs=[config])
+    inputs = [config, config.parent / "fit.json"] if band else [config]
+    run = Run("predict", out, force=force, inputs=inputs, beside=config)
     model = cfg.model
     prediction = predict(model, T)
     overlays = []
@@ -88,7 +87,7 @@ def predict_command(
             columns.append((f"kappa_L_{label} [W/(m K)]", k))
     columns.append(("C_V [J/(mol K)]", prediction.molar_heat_capacity))
 
-    from kappa.presentation.style import plot_prediction, save
+    from kappa.presentation.style import plot_prediction
 
     if fit_band is not None:  # the band is the point of the figure: leave out the other curves
         import dataclasses
@@ -101,8 +100,9 @@ def predict_command(
 
         add_band(fig.axes[0], fit_band.temperature, fit_band.low, fit_band.high)
     derived = dict(derived_lines(model))
-    record = run_record(
-        "predict",
+    run.table("kappa_L.csv", columns)
+    run.figure("kappa_L", fig)
+    run.record(
         config=str(config),
         overrides=list(set_ or []),
         compare=compare_,
@@ -114,20 +114,15 @@ def predict_command(
         resolved_inputs=cfg.data,
         derived=derived,
         model_si=model_summary(model),
-        outputs=["kappa_L.csv", "kappa_L.png", "kappa_L.svg", "run.json"],
         citations=prediction.citations,
     )
-    with output_folder(out, force=force, inputs=[config]) as tmp:
-        write_table(tmp / "kappa_L.csv", columns)
-        save(fig, tmp / "kappa_L")
-        write_json(tmp / "run.json", record)
-
+    run.finish(report=False)
     for key, text in derived.items():
         common.echo_err(f"derived: {key} = {text}")
     headers = [h for h, _ in columns if not h.startswith("C_V")][:6]
     rows = list(zip(*[v for h, v in columns if h in headers], strict=True))
     common.print_table(headers, rows)
-    typer.echo(f"wrote {out}/kappa_L.csv, kappa_L.png, kappa_L.svg, run.json")
+    typer.echo(f"wrote {run.out}/ ({', '.join(run.outputs)})")
 
 
 def register(app: typer.Typer) -> None:

@@ -42,12 +42,11 @@ def spectrum_command(
                                              "folder beside the config).")] = None,
     force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")] = False,
 ) -> None:
+    from kappa.cli.run import Run
     from kappa.errors import ConfigError
     from kappa.io.config import derived_lines, load_config
     from kappa.io.grids import parse_temperatures
-    from kappa.io.outdir import check_out, default_out, output_folder
-    from kappa.io.records import model_summary, run_record, write_json
-    from kappa.io.tables import write_table
+    from kappa.io.records import model_summary
     from kappa.workflows.spectrum import MAX_TEMPERATURES, spectrum
 
     cfg = load_config(config, set_ or [])
@@ -58,21 +57,19 @@ def spectrum_command(
     if T.size > MAX_TEMPERATURES:
         raise ConfigError("--at", f"{T.size} temperatures",
                           f"at most {MAX_TEMPERATURES} temperatures")
-    out = out or default_out(config, "spectrum")
-    check_out(out, force=force, inputs=[config])
+    run = Run("spectrum", out, force=force, inputs=[config])
     sp = spectrum(model, T)
 
-    from kappa.presentation.style import save
     from kappa.presentation.sweep import plot_cumulative, plot_rates, plot_spectral
 
-    figures = {"spectral": plot_spectral(sp), "cumulative": plot_cumulative(sp),
-               "rates": plot_rates(sp)}
-    outputs = ["spectrum.csv", "cumulative_mfp.csv",
-               *[f"{n}.{ext}" for n in figures for ext in ("png", "svg")], "run.json"]
+    run.table("spectrum.csv", spectrum_table(sp))
+    run.table("cumulative_mfp.csv", mfp_table(sp))
+    for name, fig in (("spectral", plot_spectral(sp)), ("cumulative", plot_cumulative(sp)),
+                      ("rates", plot_rates(sp))):
+        run.figure(name, fig)
     derived = dict(derived_lines(model))
     has_normal = bool(model.mechanisms.normal)
-    record = run_record(
-        "spectrum",
+    run.record(
         config=str(config),
         overrides=list(set_ or []),
         **{"temperatures [K]": T, "kappa_L [W/(m K)]": sp.kappa_L,
@@ -86,15 +83,9 @@ def spectrum_command(
         resolved_inputs=cfg.data,
         derived=derived,
         model_si=model_summary(model),
-        outputs=outputs,
         citations=sp.citations,
     )
-    with output_folder(out, force=force, inputs=[config]) as tmp:
-        write_table(tmp / "spectrum.csv", spectrum_table(sp))
-        write_table(tmp / "cumulative_mfp.csv", mfp_table(sp))
-        for name, fig in figures.items():
-            save(fig, tmp / name)
-        write_json(tmp / "run.json", record)
+    run.finish(report=False)
 
     for key, text in derived.items():
         common.echo_err(f"derived: {key} = {text}")
@@ -112,7 +103,7 @@ def spectrum_command(
                    f"{_length(sp.mfp80[t])}")
     if has_normal:
         common.echo_err(NORMAL_NOTE)
-    typer.echo(f"wrote {out}/" + ", ".join(outputs))
+    typer.echo(f"wrote {run.out}/ ({', '.join(run.outputs)})")
 
 
 def mfp_table(result) -> list[tuple[str, object]]:

@@ -39,23 +39,6 @@ Sweeps above 10^8 points need --yes.
 """
 
 
-def write_csv(path: Path, columns: list[tuple[str, np.ndarray]], block: int = 200_000) -> None:
-    """Write numeric columns fast (``%.8g``, NaN as a blank cell), in blocks of rows."""
-    headers = [h for h, _ in columns]
-    n = len(columns[0][1])
-    fmt = ",".join(["%.8g"] * len(columns))
-    with open(path, "w", encoding="utf-8", newline="\n") as fh:
-        fh.write(",".join(headers) + "\n")
-        for a in range(0, n, block):
-            b = min(n, a + block)
-            arr = np.column_stack([np.asarray(c[a:b], dtype=float) for _, c in columns])
-            text = "\n".join(fmt % row for row in map(tuple, arr.tolist()))
-            if np.isnan(arr).any():
-                text = "\n".join(",".join("" if c == "nan" else c for c in line.split(","))
-                                 for line in text.split("\n"))
-            fh.write(text + "\n")
-
-
 def sweep_command(
     config: Annotated[Path, typer.Argument(help="YAML config (see 'kappa new').",
                                            exists=True, dir_okay=False, readable=True)],
@@ -71,11 +54,11 @@ def sweep_command(
     force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")] = False,
     yes: Annotated[bool, typer.Option("--yes", help="Allow sweeps above 10^8 points.")] = False,
 ) -> None:
+    from kappa.cli.run import Run
     from kappa.errors import ConfigError
     from kappa.io.config import derived_lines, load_config
     from kappa.io.grids import parse_temperatures, parse_vary
-    from kappa.io.outdir import check_out, default_out, output_folder
-    from kappa.io.records import model_summary, run_record, write_json
+    from kappa.io.records import model_summary
     from kappa.io.tables import axis_columns
     from kappa.workflows.sweep import MAX_POINTS, check_axes, grid_points, sweep
 
@@ -106,21 +89,18 @@ def sweep_command(
         axes = list(check_axes(model, axes))
     except ConfigError as exc:
         raise exc.renamed(f"--vary {exc.key}" if exc.key in seen else exc.key) from None
-    out = out or default_out(config, "sweep")
-    check_out(out, force=force, inputs=[config])
+    run = Run("sweep", out, force=force, inputs=[config])
 
     t0 = time.perf_counter()
     result = sweep(model, axes, T, progress=common.Bar("sweep"), allow_large=yes)
     elapsed = time.perf_counter() - t0
 
-    from kappa.presentation.style import save
     from kappa.presentation.sweep import plot_sweep
 
     fig = plot_sweep(result)
     names = axis_columns(axes)
     derived = dict(derived_lines(model))
-    record = run_record(
-        "sweep",
+    run.record(
         config=str(config),
         overrides=list(set_ or []),
         vary=list(vary or []),
@@ -133,22 +113,19 @@ def sweep_command(
         resolved_inputs=cfg.data,
         derived=derived,
         model_si=model_summary(model),
-        outputs=["sweep.csv", "sweep.png", "sweep.svg", "run.json"],
         citations=result.citations,
     )
     long = result.long_form()
     columns = [(n, a.parameter.shown(long[a.key])) for a, n in zip(axes, names, strict=True)]
     columns += [("T [K]", long["temperature"]), ("kappa_L [W/(m K)]", long["kappa_L"]),
                 ("kappa_L_ratio [1]", long["kappa_L_ratio"])]
-    with output_folder(out, force=force, inputs=[config]) as tmp:
-        write_csv(tmp / "sweep.csv", columns)
-        save(fig, tmp / "sweep")
-        write_json(tmp / "run.json", record)
-
+    run.table("sweep.csv", columns)
+    run.figure("sweep", fig)
+    run.finish(report=False)
     for key, text in derived.items():
         common.echo_err(f"derived: {key} = {text}")
     _summary(result, names, elapsed)
-    typer.echo(f"wrote {out}/sweep.csv, sweep.png, sweep.svg, run.json")
+    typer.echo(f"wrote {run.out}/ ({', '.join(run.outputs)})")
 
 
 def _summary(result, names: list[str], elapsed: float) -> None:
