@@ -177,9 +177,10 @@ class Site:
     species: Mapping[str, object]
 
     def text(self, digits: int = 4) -> str:
-        """``[Zr0.5Hf0.5]`` or ``[Mg]2`` (scalar fractions only)."""
-        inner = "".join(s if abs(float(f) - 1.0) < 1e-12 else f"{s}{float(f):.{digits}g}"
-                        for s, f in self.species.items())
+        """``[Zr0.5Hf0.5]`` or ``[Mg]2`` (``[Si(x)Ge(x)]`` for a batch of fractions)."""
+        inner = "".join(f"{s}(x)" if np.ndim(f) else (
+            s if abs(float(f) - 1.0) < 1e-12 else f"{s}{float(f):.{digits}g}")
+            for s, f in self.species.items())
         m = self.multiplicity
         return f"[{inner}]" + ("" if abs(m - 1.0) < 1e-12 else f"{m:.{digits}g}")
 
