@@ -126,13 +126,13 @@ def isotopes(symbol: str) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _mean_and_variance(symbol: str, with_isotopes: bool) -> tuple[float, float]:
-    """(m̄_i [u], g_i): isotope-weighted mean mass and isotope Γ of one element."""
-    try:
-        m, a = isotopes(symbol)
-    except DataError:
-        if with_isotopes:
-            raise
+    """(m̄_i [u], g_i): isotope-weighted mean mass and isotope Γ of one element.
+
+    Without isotopes: the standard atomic weight and 0.
+    """
+    if not with_isotopes:
         return standard_atomic_weight(symbol), 0.0
+    m, a = isotopes(symbol)
     mean = float(a @ m)
     return mean, float(a @ (1.0 - m / mean) ** 2)
 
