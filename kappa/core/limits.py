@@ -132,7 +132,7 @@ def poisson_ratio(longitudinal, transverse):
     vl = _positive("longitudinal", longitudinal)
     vt = _positive("transverse", transverse)
     r2 = (vt / vl) ** 2
-    if np.any(r2 >= 0.75):
+    if np.any(vt >= RATIO_LIMIT * vl):
         from kappa.errors import DataError
 
         raise DataError("transverse", float(np.max(vt)), f"must be below (√3/2)·v_L = "
