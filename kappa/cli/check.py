@@ -24,10 +24,8 @@ def check_command(
     set_: Annotated[list[str] | None, typer.Option("--set", help="Override KEY=VALUE "
                                                    "(repeatable).")] = None,
 ) -> None:
-    from dataclasses import replace
-
     from kappa.core.checks import model_warnings
-    from kappa.core.limits import MINIMUM_MODEL, minimum_conductivity
+    from kappa.core.limits import MINIMUM_MODEL, minimum_of_model
     from kappa.io.config import derived_lines, load_config
 
     cfg = load_config(config, set_ or [])
@@ -57,14 +55,7 @@ def check_command(
         typer.echo(f"derived: {key} = {text}")
     if m.per_branch:
         typer.echo(f"derived: Debye mean of the branch velocities = {m.mean_velocity:.6g} m/s")
-    if model.spec.longitudinal_velocity is not None:
-        spec_v = model.spec
-        m = replace(m, branches=(
-            replace(m.branches[0], sound_velocity=spec_v.longitudinal_velocity, count=1.0,
-                    polarization="longitudinal"),
-            replace(m.branches[0], sound_velocity=spec_v.transverse_velocity, count=2.0,
-                    polarization="transverse")))
-    kmin = minimum_conductivity([300.0, 1e5], m)
+    kmin = minimum_of_model([300.0, 1e5], model)
     typer.echo(f"estimate: {MINIMUM_MODEL} minimum κ_min = {kmin[0]:.3g} W/(m K) at 300 K, "
                f"{kmin[1]:.3g} W/(m K) high-T limit (from the volume per atom and velocities)")
     if m.has_optical:

@@ -409,14 +409,15 @@ def optical_part(model: Model) -> np.ndarray:
     """κ of the optical modes of a cell with n > 1 atoms [W/(m K)], shape ``batch_shape``.
 
     :func:`kappa.core.limits.optical_conductivity` with the volume per atom, the arithmetic
-    mean of the acoustic velocities Σ_j n_j v_j / 3 and ``atoms_per_cell`` (zero for n = 1).
+    mean of the three acoustic velocities ((v_L + 2v_T)/3 where the model gives them, else the
+    branch velocities) and ``atoms_per_cell`` (zero for n = 1).
     :func:`conductivity` adds it to the acoustic branches' Callaway integrals: κ_L is always
     the total.
     """
-    from kappa.core.limits import optical_conductivity
+    from kappa.core.limits import acoustic_velocities, optical_conductivity
 
     m = model.material
-    mean_v = sum(b.count * np.asarray(b.sound_velocity, dtype=float) for b in m.branches) / 3.0
+    mean_v = sum(np.asarray(v, dtype=float) for v in acoustic_velocities(model)) / 3.0
     value = optical_conductivity(m.number_density, mean_v, m.atoms_per_cell)
     return np.broadcast_to(value, model.batch_shape).astype(float)
 

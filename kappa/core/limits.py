@@ -29,6 +29,8 @@ __all__ = [
     "slack_conductivity",
     "optical_conductivity",
     "minimum_conductivity",
+    "minimum_of_model",
+    "acoustic_velocities",
     "material_velocities",
     "MINIMUM_MODEL",
     "MINIMUM_CITATION",
@@ -261,6 +263,28 @@ def material_velocities(material) -> list[float]:
         out += [float(b.sound_velocity)] * (max(1, round(float(b.count))) if material.per_branch
                                             else 3)
     return out
+
+
+def acoustic_velocities(model) -> list:
+    """The three acoustic velocities of a model [m/s] (floats, or arrays for a batch).
+
+    ``(v_L, v_T, v_T)`` where the model gives them (``longitudinal_velocity`` and
+    ``transverse_velocity``, or per-branch velocities), else the averaged velocity three times.
+    """
+    s, m = model.spec, model.material
+    if not m.per_branch and s.longitudinal_velocity is not None:
+        return [s.longitudinal_velocity, s.transverse_velocity, s.transverse_velocity]
+    out: list = []
+    for b in m.branches:
+        out += [b.sound_velocity] * (max(1, round(float(np.max(b.count)))) if m.per_branch
+                                     else 3)
+    return out
+
+
+def minimum_of_model(temperature, model) -> np.ndarray:
+    """:func:`minimum_conductivity` of a single model, with its v_L and v_T where given."""
+    return cahill_minimum(temperature, float(model.material.number_density),
+                          [float(v) for v in acoustic_velocities(model)])
 
 
 def minimum_conductivity(temperature, material) -> np.ndarray:

@@ -44,11 +44,11 @@ def _fmt_T(T: float) -> str:
 
 def _minimum(result: SweepResult) -> np.ndarray | None:
     """The minimum κ_L of the config as written at each temperature (None for a batch)."""
-    from kappa.core.limits import minimum_conductivity
+    from kappa.core.limits import minimum_of_model
 
     if result.model.batch_shape:
         return None
-    return minimum_conductivity(result.temperature, result.model.material)
+    return minimum_of_model(result.temperature, result.model)
 
 
 def plot_sweep(result: SweepResult):

@@ -23,7 +23,7 @@ from kappa.core.heat_capacity import DEBYE_CITATION, heat_capacity
 from kappa.core.limits import (
     MINIMUM_CITATION,
     OPTICAL_CITATION,
-    minimum_conductivity,
+    minimum_of_model,
 )
 from kappa.core.model import Model
 from kappa.errors import ConfigError, warn
@@ -136,7 +136,7 @@ def predict(model: Model, temperature, *, switch_off: bool = True,
     labels = model.material.branch_labels()
     minimum = None
     if not model.batch_shape:
-        minimum = minimum_conductivity(T, model.material)
+        minimum = minimum_of_model(T, model)
         cites.append(MINIMUM_CITATION)
     return Prediction(T, kappa, dict(zip(labels, per_branch, strict=True)), without,
                       heat_capacity(model.material, T), model, cites, optical, minimum)
