@@ -60,6 +60,24 @@ VALUES: dict[str, Reference] = {
     "gamma_si_natural": R(2.01e-4, "1", "natural Si mass variance, as quoted in the "
                           "isotope-effect literature (IUPAC abundances 92.223/4.685/3.092 %)",
                           "published", 0.02, "abundance table edition"),
+    "gamma_c_natural": R(7.39e-5, "1", "natural C mass variance, derived from Γ = Σf(1−m/m̄)² "
+                         "with IUPAC abundances 98.93/1.07 % (¹²C/¹³C)", "derived", 0.02,
+                         "abundance table edition (kappa reads the CIAAW middle values)"),
+    "gamma_sn_natural": R(3.34e-4, "1", "natural Sn mass variance, derived from IUPAC "
+                          "abundances of the ten stable isotopes", "derived", 0.02,
+                          "abundance table edition"),
+    "gamma_te_natural": R(2.84e-4, "1", "natural Te mass variance, derived from IUPAC "
+                          "abundances", "derived", 0.02, "abundance table edition"),
+    "gamma_pb_natural": R(1.94e-5, "1", "natural Pb mass variance, derived from IUPAC "
+                          "abundances (²⁰⁴/²⁰⁶/²⁰⁷/²⁰⁸Pb 1.4/24.1/22.1/52.4 %)", "derived", 0.03,
+                          "lead's abundances vary with the source; table edition"),
+    # --- alloys -------------------------------------------------------------------------------
+    "kappa_sige_300K_mid": R(8.5, "W/(m K)", "lattice conductivity of Ge–Si alloys with "
+                             "30-70 % Ge at 300 K, Dismukes et al., J. Appl. Phys. 35, 2899 "
+                             "(1964) and Abeles et al. (1962): a broad, shallow minimum near "
+                             "0.07-0.10 W/(cm K)", "from memory", 1.0,
+                             "from memory; and the Callaway model with end-member parameters "
+                             "is good to a factor of about two for alloys"),
     # --- Lorenz numbers ----------------------------------------------------------------------
     "lorenz_sommerfeld": R(2.443e-8, "W Ohm/K^2", "Sommerfeld value (π²/3)(k_B/e)²",
                            "derived", 1e-3, "quoted to 4 digits"),
@@ -124,6 +142,11 @@ VALUES: dict[str, Reference] = {
                          "0.514/γ + 0.228/γ²) at γ = 1, κ in W/(m K), M̄ in u, δ in Å, θ in K "
                          "(the same constant is printed 2.43e-8 for W/(cm K))", "derived", 1e-3,
                          "rounded to 4 digits"),
+    "slack_si_morelli": R(156.0, "W/(m K)", "measured κ of Si at 300 K (Glassbrenner & "
+                          "Slack 1964) against Slack's estimate with the acoustic θ_a = 395 K "
+                          "and γ = 0.56 listed for Si by Morelli & Slack, High Thermal "
+                          "Conductivity Materials (Springer, 2006), Table 1.x", "from memory",
+                          0.3, "from memory; Slack's formula is good to about 20-30 %"),
     "klemens_alloy_worked": R(20.29, "W/(m K)", "Klemens/Callaway–von Baeyer κ_alloy = κ_pure "
                               "arctan(u)/u, u² = π²θΩΓκ_pure/(h v²); θ = 600 K, Ω = 2e-29 m³, "
                               "v = 6000 m/s, κ_pure = 100 W/(m K), Γ = 0.1", "derived", 1e-3,

@@ -4,10 +4,10 @@ import pytest
 import scipy.constants as sc
 
 from kappa.core.composition import (
-    ATOMIC_WEIGHTS,
     dulong_petit_heat_capacity,
     mean_molar_mass,
     parse_formula,
+    standard_atomic_weight,
 )
 from kappa.errors import DataError
 
@@ -20,6 +20,9 @@ from kappa.errors import DataError
     ("Mg2(Si0.3Sn0.7)0.98Sb0.02", {"Mg": 2, "Si": 0.294, "Sn": 0.686, "Sb": 0.02}),
     ("Cu2Se", {"Cu": 2, "Se": 1}),
     ("SnSe SnSe", {"Sn": 2, "Se": 2}),
+    ("[Zr0.5Hf0.5][Ni][Sn]", {"Zr": 0.5, "Hf": 0.5, "Ni": 1, "Sn": 1}),
+    ("[Mg0.99Va0.01]2Si", {"Mg": 1.98, "Si": 1}),
+    ("[Bi0.25Sb0.75]2Te3", {"Bi": 0.5, "Sb": 1.5, "Te": 3}),
 ])
 def test_parse_formula(formula, expected):
     got = parse_formula(formula)
@@ -37,6 +40,12 @@ def test_parse_formula(formula, expected):
     ("Bi0Te", "amounts must be > 0"),
     ("", "a chemical formula is needed"),
     ("bi2te3", "cannot read"),
+    ("Si0.5Ge0.5x", "stops at character 11 ('x')"),
+    ("[Si[Ge]]", "sites cannot be nested"),
+    ("[Si0.5Ge0.5", "unbalanced '['"),
+    ("Si]", "unbalanced ']'"),
+    ("SiVa0.1", "a vacancy 'Va' belongs inside a bracketed site"),
+    ("[Va]", "no atoms, only vacancies"),
 ])
 def test_parse_formula_errors(formula, message):
     with pytest.raises(DataError) as info:
@@ -45,16 +54,16 @@ def test_parse_formula_errors(formula, message):
     assert str(info.value).startswith("--composition = ")
 
 
-def test_weights_table_covers_H_to_U():
-    # elements Z = 1..92 without the 8 that have no standard atomic weight (IUPAC)
-    assert len(ATOMIC_WEIGHTS) == 92 - 8
+def test_standard_atomic_weights():
     # spot values, source: IUPAC standard atomic weights (abridged), from memory
-    assert ATOMIC_WEIGHTS["Si"] == pytest.approx(28.085, abs=0.001)
-    assert ATOMIC_WEIGHTS["Te"] == pytest.approx(127.60, abs=0.01)
-    assert ATOMIC_WEIGHTS["Bi"] == pytest.approx(208.980, abs=0.001)
-    assert ATOMIC_WEIGHTS["U"] == pytest.approx(238.029, abs=0.001)
-    weights = [ATOMIC_WEIGHTS[s] for s in ("H", "C", "Fe", "Sn", "Pb", "U")]
+    assert standard_atomic_weight("Si") == pytest.approx(28.085, abs=0.001)
+    assert standard_atomic_weight("Te") == pytest.approx(127.60, abs=0.01)
+    assert standard_atomic_weight("Bi") == pytest.approx(208.980, abs=0.001)
+    assert standard_atomic_weight("U") == pytest.approx(238.029, abs=0.001)
+    weights = [standard_atomic_weight(s) for s in ("H", "C", "Fe", "Sn", "Pb", "U")]
     assert weights == sorted(weights)
+    with pytest.raises(DataError, match="no standard atomic weight"):
+        standard_atomic_weight("Np")
 
 
 def test_mean_molar_mass_hand_worked():

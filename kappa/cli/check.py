@@ -25,7 +25,7 @@ def check_command(
                                                    "(repeatable).")] = None,
 ) -> None:
     from kappa.core.checks import model_warnings
-    from kappa.core.limits import cahill_minimum
+    from kappa.core.limits import MINIMUM_MODEL, minimum_of_model
     from kappa.io.config import derived_lines, load_config
 
     cfg = load_config(config, set_ or [])
@@ -55,13 +55,15 @@ def check_command(
         typer.echo(f"derived: {key} = {text}")
     if m.per_branch:
         typer.echo(f"derived: Debye mean of the branch velocities = {m.mean_velocity:.6g} m/s")
-    velocities = [b.sound_velocity for b in m.branches for _ in range(
-        max(1, round(b.count)) if m.per_branch else 1)]
-    if model.spec.longitudinal_velocity is not None:
-        velocities = [model.spec.longitudinal_velocity, model.spec.transverse_velocity]
-    kmin = cahill_minimum([300.0, 1e5], m.number_density, velocities)
-    typer.echo(f"estimate: Cahill–Watson–Pohl minimum κ_min = {kmin[0]:.3g} W/(m K) at 300 K, "
+    kmin = minimum_of_model([300.0, 1e5], model)
+    typer.echo(f"estimate: {MINIMUM_MODEL} minimum κ_min = {kmin[0]:.3g} W/(m K) at 300 K, "
                f"{kmin[1]:.3g} W/(m K) high-T limit (from the volume per atom and velocities)")
+    if m.has_optical:
+        from kappa.core.evaluator import optical_part
+
+        typer.echo(f"estimate: optical modes add {float(optical_part(model)):.3g} W/(m K) to "
+                   f"κ_L (n = {m.atoms_per_cell:g} atoms per cell; Toberer, Zevalkink & "
+                   "Snyder 2011)")
     if cfg.temperature is not None:
         T = cfg.temperature
         typer.echo(f"temperature: {T.size} points, {T.min():.6g} K to {T.max():.6g} K")

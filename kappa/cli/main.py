@@ -48,7 +48,8 @@ def _register() -> None:
 
 
 #: Command modules in ``kappa/cli/``; each defines ``register(app)``.
-COMMANDS: list[str] = ["new", "check", "predict", "split", "fit", "sweep", "spectrum"]
+COMMANDS: list[str] = ["new", "check", "predict", "split", "fit", "sweep", "spectrum",
+                       "disorder", "material", "alloy"]
 
 _register()
 

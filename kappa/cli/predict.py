@@ -11,8 +11,9 @@ from . import common
 
 HELP = f"""Predict the lattice thermal conductivity κ_L(T) of a config.
 
-Writes OUT/kappa_L.csv (T, κ_L, κ_L with each resistive mechanism switched off, per-branch
-parts, Debye heat capacity), OUT/kappa_L.png and .svg, and OUT/run.json (resolved inputs,
+Writes OUT/kappa_L.csv (T, κ_L, κ_L with each resistive mechanism switched off, the acoustic
+and optical parts when material.atoms_per_cell > 1 (κ_L is their sum), per-branch parts,
+Debye heat capacity), OUT/kappa_L.png and .svg, and OUT/run.json (resolved inputs,
 derived values, version, citations), and prints a short table.
 
 Examples:
@@ -82,6 +83,9 @@ def predict_command(
         columns += [(f"kappa_L({label}) [W/(m K)]", p.kappa_L) for label, p in overlays]
     for key, k in prediction.without.items():
         columns.append((f"kappa_L_without_{key} [W/(m K)]", k))
+    if prediction.optical is not None:
+        columns += [("kappa_L_acoustic [W/(m K)]", prediction.acoustic),
+                    ("kappa_L_optical [W/(m K)]", prediction.optical)]
     if model.material.per_branch:
         for label, k in prediction.branches.items():
             columns.append((f"kappa_L_{label} [W/(m K)]", k))

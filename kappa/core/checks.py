@@ -17,16 +17,22 @@ def temperature_warnings(model: Model, temperature) -> list[str]:
     """Temperatures the model is not meant for.
 
     T above 3θ (the largest branch θ: the Debye/Callaway model is a low- to mid-temperature
-    model; common practice, no source); without boundary scattering, T below θ/30, where κ_L
-    grows without bound as Umklapp freezes out.
+    model; common practice, no source) — for a cell of n > 1 atoms the θ of all modes,
+    θ_a·n^(1/3), since the model already treats the acoustic branches up to θ_a and the optical
+    modes apart; without boundary scattering, T below θ/30 (the acoustic θ, which sets the
+    Umklapp freeze-out), where κ_L grows without bound as Umklapp freezes out.
     """
     T = np.atleast_1d(np.asarray(temperature, dtype=float))
     if T.size == 0:
         return []
     out = []
     theta = float(model.material.max_debye_temperature)
-    if T.max() > 3.0 * theta:
-        out.append(f"temperatures up to {T.max():.4g} K exceed 3θ ({3 * theta:.4g} K); the "
+    top, name = theta, "3θ"
+    if model.material.has_optical:
+        top = theta * float(np.max(model.material.atoms_per_cell)) ** (1.0 / 3.0)
+        name = "3θ_D (θ of all modes, θ_a·n^(1/3))"
+    if T.max() > 3.0 * top:
+        out.append(f"temperatures up to {T.max():.4g} K exceed {name} ({3 * top:.4g} K); the "
                    "Debye/Callaway model is not meant for that range")
     if model.mechanisms.get("boundary") is None and T.min() < theta / 30:
         out.append("no boundary scattering: below about θ/30 "

@@ -4,47 +4,189 @@ Pure functions, SI units (molar masses in kg/mol, heat capacity in J/(kg K)).
 
 Formulas are written as element symbols with optional (decimal) amounts and parentheses:
 ``PbTe``, ``Bi2Te2.7Se0.3``, ``Mg2Si0.4Sn0.6``, ``(Bi0.25Sb0.75)2Te3``, ``Mg2(Si0.3Sn0.7)0.98Sb0.02``.
+Square brackets name one crystallographic site (sublattice) explicitly, with site fractions
+that add up to 1 and the number of such sites per formula unit after the bracket:
+``[Zr0.5Hf0.5][Ni][Sn]``, ``[Bi0.25Sb0.75]2Te3``. ``Va`` is a vacancy (it has no mass and is
+not counted as an atom): ``[Mg0.99Va0.01]2Si``. How sites are inferred where no brackets are
+written is described in :mod:`kappa.core.disorder`.
 
-Standard atomic weights: IUPAC/CIAAW standard atomic weights (Prohaska et al., "Standard atomic
-weights of the elements 2021", Pure Appl. Chem. 94, 573 (2022)); for elements whose standard
-weight is an interval the IUPAC conventional (abridged) value is used. The values were entered
-from that table by hand; revisions between table editions are below 1e-4 relative, far below
-what a Dulong-Petit estimate can resolve. Elements without a standard atomic weight (Tc, Pm,
-Po, At, Rn, Fr, Ra, Ac) are not accepted.
+Atomic weights: the IUPAC/CIAAW standard atomic weights as distributed by the maintained
+``periodictable`` package (for elements whose standard weight is an interval, the
+conventional value). Elements without a standard atomic weight (Tc, Pm, Po, At, Rn, Fr, Ra,
+Ac and everything beyond U) are not accepted.
 """
 
 from __future__ import annotations
 
+import functools
 import re
+from dataclasses import dataclass
 
 from kappa.core.constants import R
 from kappa.errors import DataError
 
-__all__ = ["ATOMIC_WEIGHTS", "parse_formula", "mean_molar_mass", "dulong_petit_heat_capacity"]
+__all__ = [
+    "VACANCY",
+    "Node",
+    "parse_tree",
+    "parse_formula",
+    "standard_atomic_weight",
+    "mean_molar_mass",
+    "dulong_petit_heat_capacity",
+]
 
-#: Standard atomic weights [g/mol] (IUPAC 2021; conventional values for interval elements).
-ATOMIC_WEIGHTS: dict[str, float] = {
-    "H": 1.008, "He": 4.002602, "Li": 6.94, "Be": 9.0121831, "B": 10.81, "C": 12.011,
-    "N": 14.007, "O": 15.999, "F": 18.998403162, "Ne": 20.1797, "Na": 22.98976928,
-    "Mg": 24.305, "Al": 26.9815384, "Si": 28.085, "P": 30.973761998, "S": 32.06, "Cl": 35.45,
-    "Ar": 39.95, "K": 39.0983, "Ca": 40.078, "Sc": 44.955907, "Ti": 47.867, "V": 50.9415,
-    "Cr": 51.9961, "Mn": 54.938043, "Fe": 55.845, "Co": 58.933194, "Ni": 58.6934,
-    "Cu": 63.546, "Zn": 65.38, "Ga": 69.723, "Ge": 72.630, "As": 74.921595, "Se": 78.971,
-    "Br": 79.904, "Kr": 83.798, "Rb": 85.4678, "Sr": 87.62, "Y": 88.905838, "Zr": 91.224,
-    "Nb": 92.90637, "Mo": 95.95, "Ru": 101.07, "Rh": 102.90549, "Pd": 106.42,
-    "Ag": 107.8682, "Cd": 112.414, "In": 114.818, "Sn": 118.710, "Sb": 121.760,
-    "Te": 127.60, "I": 126.90447, "Xe": 131.293, "Cs": 132.90545196, "Ba": 137.327,
-    "La": 138.90547, "Ce": 140.116, "Pr": 140.90766, "Nd": 144.242, "Sm": 150.36,
-    "Eu": 151.964, "Gd": 157.25, "Tb": 158.925354, "Dy": 162.500, "Ho": 164.930329,
-    "Er": 167.259, "Tm": 168.934219, "Yb": 173.045, "Lu": 174.9668, "Hf": 178.486,
-    "Ta": 180.94788, "W": 183.84, "Re": 186.207, "Os": 190.23, "Ir": 192.217,
-    "Pt": 195.084, "Au": 196.966570, "Hg": 200.592, "Tl": 204.38, "Pb": 207.2,
-    "Bi": 208.98040, "Th": 232.0377, "Pa": 231.03588, "U": 238.02891,
-}
-
+VACANCY = "Va"  #: the symbol of a vacancy in formulas
 _NO_STANDARD_WEIGHT = ("Tc", "Pm", "Po", "At", "Rn", "Fr", "Ra", "Ac")
-_TOKEN = re.compile(r"([A-Z][a-z]?)|(\()|(\))|(\d+\.?\d*|\.\d+)|(\s+)")
-_EXAMPLES = "e.g. PbTe, Bi2Te2.7Se0.3, Mg2Si0.4Sn0.6, (Bi0.25Sb0.75)2Te3"
+_TOKEN = re.compile(r"([A-Z][a-z]?)|([(\[])|([)\]])|(\d+\.?\d*|\.\d+)|(\s+)")
+_EXAMPLES = "e.g. PbTe, Bi2Te2.7Se0.3, Mg2Si0.4Sn0.6, (Bi0.25Sb0.75)2Te3, [Zr0.5Hf0.5]NiSn"
+
+
+@functools.lru_cache(maxsize=1)
+def _elements() -> dict:
+    """Symbol → periodictable element, for the elements with a standard atomic weight."""
+    import periodictable
+
+    return {el.symbol: el for el in periodictable.elements
+            if 1 <= el.number <= 92 and el.symbol not in _NO_STANDARD_WEIGHT}
+
+
+def standard_atomic_weight(symbol: str) -> float:
+    """Standard atomic weight of an element [g/mol = u] (IUPAC, via ``periodictable``).
+
+    Raises
+    ------
+    DataError
+        Unknown symbol or an element without a standard atomic weight.
+    """
+    el = _elements().get(symbol)
+    if el is None:
+        _unknown(symbol, "symbol", symbol)
+    return float(el.mass)
+
+
+def _unknown(symbol: str, key: str, formula: str):
+    if symbol in _NO_STANDARD_WEIGHT:
+        raise DataError(key, formula, f"{symbol} has no standard atomic weight; not supported")
+    import periodictable
+
+    known = {el.symbol for el in periodictable.elements if el.number >= 1}
+    if symbol in known:
+        raise DataError(key, formula, f"{symbol} has no standard atomic weight; not supported")
+    raise DataError(key, formula, f"unknown element symbol '{symbol}' ({_EXAMPLES})")
+
+
+@dataclass(frozen=True)
+class Node:
+    """One item of a parsed formula.
+
+    ``kind`` is ``"element"`` (``symbol`` set; ``Va`` for a vacancy), ``"group"`` (parentheses)
+    or ``"site"`` (square brackets); ``children`` the items inside a group or site; ``amount``
+    the number written after the item (1 if none); ``position`` where it starts in the text
+    (0-based).
+    """
+
+    kind: str
+    amount: float = 1.0
+    symbol: str = ""
+    children: tuple[Node, ...] = ()
+    position: int = 0
+
+
+def _where(text: str, pos: int) -> str:
+    return f"stops at character {pos + 1} ('{text[pos:pos + 12]}')"
+
+
+def parse_tree(formula: str, key: str = "composition") -> tuple[Node, ...]:
+    """Parse a formula into its items (elements, parenthesized groups, bracketed sites).
+
+    Raises
+    ------
+    DataError
+        Naming ``key``, the formula and where reading stopped: unknown element, bad syntax,
+        unbalanced or nested brackets, zero amounts, a vacancy outside a site.
+    """
+    text = str(formula).strip()
+    if not text:
+        raise DataError(key, formula, f"a chemical formula is needed, {_EXAMPLES}")
+    stack: list[tuple[str, int, list[Node]]] = [("", 0, [])]  # (opening, position, items)
+    pos = 0
+    elements = _elements()
+    while pos < len(text):
+        m = _TOKEN.match(text, pos)
+        if not m:
+            raise DataError(key, formula, f"cannot read it: {_where(text, pos)}; write element "
+                            f"symbols with amounts, {_EXAMPLES}")
+        symbol, opening, closing, number, space = m.groups()
+        start, pos = pos, m.end()
+        items = stack[-1][2]
+        if space:
+            continue
+        if symbol:
+            if symbol != VACANCY and symbol not in elements:
+                try:
+                    _unknown(symbol, key, formula)
+                except DataError as exc:
+                    raise DataError(key, formula, f"{exc.allowed}; {_where(text, start)}") \
+                        from None
+            items.append(Node("element", symbol=symbol, position=start))
+        elif opening:
+            if opening == "[" and any(o == "[" for o, _, _ in stack):
+                raise DataError(key, formula, f"sites cannot be nested; {_where(text, start)}")
+            if opening == "(" and any(o == "[" for o, _, _ in stack):
+                raise DataError(key, formula, "write a site's species without parentheses, "
+                                f"e.g. [Zr0.5Hf0.5]; {_where(text, start)}")
+            stack.append((opening, start, []))
+        elif closing:
+            want = {")": "(", "]": "["}[closing]
+            if len(stack) == 1 or stack[-1][0] != want:
+                raise DataError(key, formula, f"unbalanced '{closing}'; {_where(text, start)}")
+            op, at, inner = stack.pop()
+            if not inner:
+                raise DataError(key, formula, f"empty brackets; {_where(text, at)}")
+            stack[-1][2].append(Node("group" if op == "(" else "site", children=tuple(inner),
+                                     position=at))
+        else:
+            amount = float(number)
+            if not items or items[-1].amount != 1.0 or _has_amount(text, items[-1], start):
+                raise DataError(key, formula, "an amount must follow an element or a bracket; "
+                                f"{_where(text, start)}")
+            if amount <= 0:
+                raise DataError(key, formula, f"amounts must be > 0; {_where(text, start)}")
+            last = items[-1]
+            items[-1] = Node(last.kind, amount, last.symbol, last.children, last.position)
+    if len(stack) != 1:
+        op, at, _ = stack[-1]
+        raise DataError(key, formula, f"unbalanced '{op}' (opened at character {at + 1})")
+    items = stack[0][2]
+    if not items:
+        raise DataError(key, formula, f"no elements found, {_EXAMPLES}")
+    _check_vacancies(items, key, formula, inside_site=False)
+    return tuple(items)
+
+
+def _has_amount(text: str, node: Node, number_start: int) -> bool:
+    """True when ``node`` already has an amount written (``Si2 3`` or ``Si2.0 3``)."""
+    before = text[:number_start].rstrip()
+    return bool(before) and (before[-1].isdigit() or before[-1] == ".")
+
+
+def _check_vacancies(items, key: str, formula: str, inside_site: bool) -> None:
+    for n in items:
+        if n.kind == "element" and n.symbol == VACANCY and not inside_site:
+            raise DataError(key, formula, "a vacancy 'Va' belongs inside a bracketed site, e.g. "
+                            f"[Mg0.99Va0.01]2Si; {_where(str(formula).strip(), n.position)}")
+        if n.kind != "element":
+            _check_vacancies(n.children, key, formula, inside_site or n.kind == "site")
+
+
+def _flatten(items, scale: float, out: dict[str, float], vacancies: bool) -> None:
+    for n in items:
+        if n.kind == "element":
+            if n.symbol == VACANCY and not vacancies:
+                continue
+            out[n.symbol] = out.get(n.symbol, 0.0) + scale * n.amount
+        else:
+            _flatten(n.children, scale * n.amount, out, vacancies)
 
 
 def parse_formula(formula: str, key: str = "composition") -> dict[str, float]:
@@ -53,7 +195,8 @@ def parse_formula(formula: str, key: str = "composition") -> dict[str, float]:
     Parameters
     ----------
     formula : str
-        E.g. ``"Bi2Te2.7Se0.3"``; amounts may be decimals; parentheses may nest.
+        E.g. ``"Bi2Te2.7Se0.3"``; amounts may be decimals; parentheses may nest; square
+        brackets mark a site (see the module docstring); vacancies ``Va`` are left out.
     key : str
         Name used in error messages (e.g. ``--composition``).
 
@@ -67,63 +210,15 @@ def parse_formula(formula: str, key: str = "composition") -> dict[str, float]:
     DataError
         Unknown element, bad syntax, unbalanced parentheses, zero or empty amounts.
     """
-    text = str(formula).strip()
-    if not text:
-        raise DataError(key, formula, f"a chemical formula is needed, {_EXAMPLES}")
-    stack: list[dict[str, float]] = [{}]
-    last: dict[str, float] | str | None = None  # the element or group an amount applies to
-    pos = 0
-    while pos < len(text):
-        m = _TOKEN.match(text, pos)
-        if not m:
-            raise DataError(key, formula,
-                            f"cannot read '{text[pos:]}'; write element symbols with amounts, "
-                            f"{_EXAMPLES}")
-        symbol, opening, closing, number, space = m.groups()
-        pos = m.end()
-        if space:
-            continue
-        if symbol:
-            if symbol in _NO_STANDARD_WEIGHT:
-                raise DataError(key, formula,
-                                f"{symbol} has no standard atomic weight; not supported")
-            if symbol not in ATOMIC_WEIGHTS:
-                raise DataError(key, formula, f"unknown element symbol '{symbol}' ({_EXAMPLES})")
-            stack[-1][symbol] = stack[-1].get(symbol, 0.0) + 1.0
-            last = symbol
-        elif opening:
-            stack.append({})
-            last = None
-        elif closing:
-            if len(stack) == 1:
-                raise DataError(key, formula, "unbalanced ')'")
-            group = stack.pop()
-            if not group:
-                raise DataError(key, formula, "empty parentheses")
-            for el, n in group.items():
-                stack[-1][el] = stack[-1].get(el, 0.0) + n
-            last = group
-        elif number is not None:
-            amount = float(number)
-            if last is None:
-                raise DataError(key, formula, "an amount must follow an element or ')'")
-            if amount <= 0:
-                raise DataError(key, formula, "amounts must be > 0")
-            if isinstance(last, str):
-                stack[-1][last] += amount - 1.0
-            else:
-                for el, n in last.items():
-                    stack[-1][el] += n * (amount - 1.0)
-            last = None
-    if len(stack) != 1:
-        raise DataError(key, formula, "unbalanced '('")
-    if not stack[0]:
-        raise DataError(key, formula, f"no elements found, {_EXAMPLES}")
-    return dict(stack[0])
+    out: dict[str, float] = {}
+    _flatten(parse_tree(formula, key), 1.0, out, vacancies=False)
+    if not out:
+        raise DataError(key, formula, f"no atoms, only vacancies; {_EXAMPLES}")
+    return out
 
 
 def mean_molar_mass(formula: str | dict[str, float], key: str = "composition") -> float:
-    """Mean molar mass per mole of atoms, M = sum n_i M_i / sum n_i.
+    """Mean molar mass per mole of atoms, M = sum n_i M_i / sum n_i (vacancies not counted).
 
     Parameters
     ----------
@@ -133,11 +228,12 @@ def mean_molar_mass(formula: str | dict[str, float], key: str = "composition") -
     Returns
     -------
     float
-        Mean molar mass [kg/mol] (numerically equal to the mean atomic mass in u / 1000).
+        Mean molar mass [kg/mol] (numerically equal to the mean atomic mass in u / 1000), from
+        the standard atomic weights.
     """
     amounts = parse_formula(formula, key) if isinstance(formula, str) else dict(formula)
     total = sum(amounts.values())
-    return sum(n * ATOMIC_WEIGHTS[el] for el, n in amounts.items()) / total * 1e-3
+    return sum(n * standard_atomic_weight(el) for el, n in amounts.items()) / total * 1e-3
 
 
 def dulong_petit_heat_capacity(formula: str | dict[str, float], key: str = "composition") -> float:

@@ -37,6 +37,7 @@ __all__ = [
     "CALLAWAY_CITATION",
     "conductivity",
     "conductivity_from_rates",
+    "optical_part",
     "lattice_conductivity",
     "branch_conductivities",
     "check_temperature",
@@ -347,6 +348,9 @@ def conductivity(model: Model, temperature, *, exclude: Sequence[str] = (),
                  by_branch: bool = False) -> np.ndarray:
     """κ_L [W/(m K)] of a model, or of a batch of parameter sets, at every temperature.
 
+    The sum of the acoustic branches' Callaway integrals plus, for ``atoms_per_cell`` > 1, the
+    optical part (:func:`optical_part`).
+
     Parameters
     ----------
     model : Model
@@ -358,7 +362,8 @@ def conductivity(model: Model, temperature, *, exclude: Sequence[str] = (),
     exclude : sequence of str
         Keys of resistive mechanisms to switch off (normal processes stay as in the full model).
     by_branch : bool
-        Return each branch's contribution (n_j/3)κ_j instead of the sum.
+        Return each branch's contribution (n_j/3)κ_j instead of the sum; the optical part of
+        a cell with several atoms (:func:`optical_part`) is then not included.
 
     Returns
     -------
@@ -405,7 +410,29 @@ def conductivity(model: Model, temperature, *, exclude: Sequence[str] = (),
                           "the parameters give no finite conductivity; check their values and "
                           "units (the allowed ranges are in 'kappa check')")
     out = out.reshape((nB, *batch, T.size))
-    return out if by_branch else out.sum(axis=0)
+    if by_branch:
+        return out
+    total = out.sum(axis=0)
+    if model.material.has_optical:
+        total = total + optical_part(model)[..., None]
+    return total
+
+
+def optical_part(model: Model) -> np.ndarray:
+    """κ of the optical modes of a cell with n > 1 atoms [W/(m K)], shape ``batch_shape``.
+
+    :func:`kappa.core.limits.optical_conductivity` with the volume per atom, the arithmetic
+    mean of the three acoustic velocities ((v_L + 2v_T)/3 where the model gives them, else the
+    branch velocities) and ``atoms_per_cell`` (zero for n = 1).
+    :func:`conductivity` adds it to the acoustic branches' Callaway integrals: κ_L is always
+    the total.
+    """
+    from kappa.core.limits import acoustic_velocities, optical_conductivity
+
+    m = model.material
+    mean_v = sum(np.asarray(v, dtype=float) for v in acoustic_velocities(model)) / 3.0
+    value = optical_conductivity(m.number_density, mean_v, m.atoms_per_cell)
+    return np.broadcast_to(value, model.batch_shape).astype(float)
 
 
 def result_warnings(kappa_L: np.ndarray, temperature: np.ndarray) -> list[str]:
@@ -467,7 +494,7 @@ def lattice_conductivity(material, scattering: Scattering, T,
     >>> round(float(k[0]), 2)  # boundary only: (2π²/15) k_B⁴T³L/(ħ³v²) = 8.81 W/(m K)
     8.81
     """
-    return branch_conductivities(material, scattering, T, exclude).sum(axis=0)
+    return conductivity(Model.from_material(material, scattering), T, exclude=exclude)
 
 
 # --- one branch at one temperature, for spectra ----------------------------------------------

@@ -31,7 +31,11 @@ __all__ = [
     "MaterialSpec",
     "MATERIAL_PARAMETERS",
     "BRANCH_PARAMETERS",
+    "ALLOY_PARAMETERS",
+    "DERIVED_UNITS",
+    "AlloySpec",
     "POLARIZATIONS",
+    "acoustic_debye_temperature",
     "debye_temperature_from_velocity",
     "mean_sound_velocity",
     "resolve_material",
@@ -105,7 +109,24 @@ MATERIAL_PARAMETERS: dict[str, Parameter] = {p.name: p for p in (
     _p("gruneisen", "1", "Grüneisen parameter γ", high=100.0, typical=(0.2, 5.0),
        basis="Grüneisen parameters of solids: mostly 0.5-3 (γ < 0.2 or > 5 are exceptional)",
        title="Grüneisen parameter"),
+    _p("atoms_per_cell", "1", "atoms per primitive cell n (acoustic θ_a = θ·n^(-1/3) and an "
+       "optical part)", low=1.0, high=1e4, low_open=False, typical=(1.0, 200.0),
+       basis="primitive cells of crystals: 1 (Cu) to a few hundred atoms (clathrates, "
+       "complex Zintl phases)", title="atoms per primitive cell"),
 )}
+
+#: Numeric keys of the alloy section (``material.alloy.NAME``).
+ALLOY_PARAMETERS: dict[str, Parameter] = {
+    "fraction": _p("fraction", "1", "alloy fraction x: composition (1 − x)·first + x·second "
+                   "end member", low=0.0, high=1.0, low_open=False, title="alloy fraction x",
+                   linear=True, start=0.5),
+}
+
+#: Values kappa derives that are not keys of a config (for records and terminals).
+DERIVED_UNITS: dict[str, str] = {
+    "acoustic_debye_temperature": "K",
+    "optical_conductivity": "W/(m*K)",
+}
 
 #: Numeric keys of one branch (``material.branches.I.NAME``).
 BRANCH_PARAMETERS: dict[str, Parameter] = {
@@ -179,14 +200,21 @@ class Material:
         One averaged branch (count 3), or per-branch entries whose counts add up to 3.
     name : str
         Free text.
+    atoms_per_cell : float
+        Atoms per primitive cell n: the branches are then the acoustic branches (their Debye
+        temperatures are acoustic θ_a = θ·n^(−1/3) where derived) and the optical modes add
+        :func:`kappa.core.limits.optical_conductivity` to κ_L. 1 for a monatomic cell.
     """
 
     atomic_mass: float
     atomic_volume: float
     branches: tuple[Branch, ...]
     name: str = ""
+    atoms_per_cell: float = 1.0
 
     def __post_init__(self) -> None:
+        MATERIAL_PARAMETERS["atoms_per_cell"].check("material.atoms_per_cell",
+                                                    self.atoms_per_cell)
         MATERIAL_PARAMETERS["atomic_mass"].check("material.atomic_mass", self.atomic_mass)
         MATERIAL_PARAMETERS["atomic_volume"].check("material.atomic_volume", self.atomic_volume)
         if not isinstance(self.branches, tuple) or not self.branches:
@@ -226,6 +254,11 @@ class Material:
         """The largest branch Debye temperature [K] (the one the model's range refers to)."""
         return np.max(np.array([np.max(b.debye_temperature) for b in self.branches]))
 
+    @property
+    def has_optical(self) -> bool:
+        """True when the cell has more than one atom (an optical part is added to κ_L)."""
+        return bool(np.any(np.asarray(self.atoms_per_cell) > 1.0))
+
     def branch_labels(self) -> tuple[str, ...]:
         """``("average",)`` or ``("longitudinal", "transverse", ...)`` (numbered if repeated)."""
         if not self.per_branch:
@@ -253,12 +286,41 @@ class BranchSpec:
 
 
 @dataclass(frozen=True)
+class AlloySpec:
+    """An alloy between two end-member compositions: (1 − x)·first + x·second, site by site.
+
+    ``end_members`` are two formulas with the same sites in the same order (``Mg2Si``,
+    ``Mg2Sn``); ``fraction`` is x in [0, 1] (a float, or an array for a batch).
+    """
+
+    end_members: tuple[str, str]
+    fraction: float
+
+    def sites(self, key: str = "material.alloy"):
+        """The alloy's sites (fractions are arrays for an array of x)."""
+        from kappa.core.disorder import interpolate_sites, parse_sites
+
+        a, b = (parse_sites(f, f"{key}.end_members.{i}") for i, f in
+                enumerate(self.end_members))
+        return interpolate_sites(a, b, self.fraction, f"{key}.end_members")
+
+    def formula(self) -> str:
+        """The composition at this fraction as a bracketed formula (a scalar fraction)."""
+        from kappa.core.disorder import format_sites
+
+        if np.ndim(self.fraction):
+            return f"({self.end_members[0]})(1-x)({self.end_members[1]})x, x varied"
+        return format_sites(self.sites())
+
+
+@dataclass(frozen=True)
 class MaterialSpec:
     """The material as given (SI values; None = not given).
 
     Either the averaged-branch keys (``sound_velocity`` or ``longitudinal_velocity`` +
     ``transverse_velocity``, ``gruneisen``, optional ``debye_temperature``) or ``branches``;
-    ``atomic_mass`` or ``composition``; ``atomic_volume`` or ``density``.
+    ``atomic_mass``, ``composition`` or ``alloy``; ``atomic_volume`` or ``density``;
+    optionally ``atoms_per_cell``.
     """
 
     name: str = ""
@@ -272,6 +334,8 @@ class MaterialSpec:
     transverse_velocity: float | None = None
     gruneisen: float | None = None
     branches: tuple[BranchSpec, ...] | None = None
+    atoms_per_cell: float | None = None
+    alloy: AlloySpec | None = None
 
     @property
     def per_branch(self) -> bool:
@@ -287,9 +351,13 @@ def _either(spec: MaterialSpec, a: str, b: str) -> None:
 def resolve_material(spec: MaterialSpec) -> tuple[Material, list[Derived]]:
     """Derive what was not given and build the :class:`Material` (the one place that does).
 
-    Derived values: mean atomic mass from ``composition`` (standard atomic weights); volume
+    Derived values: mean atomic mass from ``composition`` or ``alloy`` (standard atomic
+    weights); volume
     per atom V₀ = M̄/ρ from ``density``; the Debye mean velocity from v_L and v_T; each Debye
-    temperature not given from its velocity and V₀. Works elementwise on arrays.
+    temperature not given from its velocity and V₀; with ``atoms_per_cell`` n the acoustic
+    Debye temperature θ_a = θ n^(−1/3) of the averaged branch (given or derived) and of each
+    branch whose θ is derived (a branch θ given explicitly is taken as that branch's own,
+    acoustic, value). Works elementwise on arrays.
 
     Raises
     ------
@@ -299,13 +367,23 @@ def resolve_material(spec: MaterialSpec) -> tuple[Material, list[Derived]]:
     derived: list[Derived] = []
     _either(spec, "atomic_mass", "composition")
     _either(spec, "atomic_volume", "density")
+    if spec.alloy is not None:
+        for other in ("atomic_mass", "composition"):
+            if getattr(spec, other) is not None:
+                raise ConfigError(f"material.{other}", "given", "give either material.alloy "
+                                  f"or material.{other}, not both (the alloy sets the "
+                                  "composition)")
     for name in ("atomic_mass", "atomic_volume", "density", "debye_temperature",
-                 "sound_velocity", "longitudinal_velocity", "transverse_velocity", "gruneisen"):
+                 "sound_velocity", "longitudinal_velocity", "transverse_velocity", "gruneisen",
+                 "atoms_per_cell"):
         value = getattr(spec, name)
         if value is not None:
             MATERIAL_PARAMETERS[name].check(f"material.{name}", value)
+    cells = 1.0 if spec.atoms_per_cell is None else spec.atoms_per_cell
     if spec.atomic_mass is not None:
         mass = spec.atomic_mass
+    elif spec.alloy is not None:
+        mass = _alloy_mass(spec.alloy, derived)
     elif spec.composition is not None:
         from kappa.core.composition import mean_molar_mass
         from kappa.core.constants import N_A
@@ -340,8 +418,9 @@ def resolve_material(spec: MaterialSpec) -> tuple[Material, list[Derived]]:
             raise ConfigError(f"material.{clash[0]}", "given",
                               "give either the averaged-branch keys (debye_temperature, "
                               "sound_velocity, gruneisen) or material.branches, not both")
-        branches = tuple(_branch(b, i, volume, derived) for i, b in enumerate(spec.branches))
-        return Material(mass, volume, branches, spec.name), derived
+        branches = tuple(_branch(b, i, volume, derived, cells)
+                         for i, b in enumerate(spec.branches))
+        return Material(mass, volume, branches, spec.name, cells), derived
     if spec.gruneisen is None:
         raise ConfigError("material.gruneisen", allowed="missing; the Grüneisen parameter is "
                           "required (or give material.branches)")
@@ -369,14 +448,56 @@ def resolve_material(spec: MaterialSpec) -> tuple[Material, list[Derived]]:
         theta = _float(debye_temperature_from_velocity(v, volume))
         derived.append(Derived("material.debye_temperature", theta, "K",
                                "from sound velocity and volume per atom"))
-    return Material.averaged(mass, volume, theta, v, spec.gruneisen, spec.name), derived
+    if spec.atoms_per_cell is not None and np.any(np.asarray(cells) != 1.0):
+        theta = _float(acoustic_debye_temperature(theta, cells))
+        derived.append(Derived("material.acoustic_debye_temperature", theta, "K",
+                               "θ_a = θ·n^(-1/3) with n = material.atoms_per_cell; the Callaway "
+                               "integral and the Umklapp rate use it"))
+    branch = Branch(theta, v, spec.gruneisen, 3.0, "average")
+    return Material(mass, volume, (branch,), spec.name, cells), derived
+
+
+def acoustic_debye_temperature(debye_temperature, atoms_per_cell):
+    """Acoustic Debye temperature θ_a = θ_D n^(−1/3) [K] for n atoms per primitive cell.
+
+    The acoustic branches end at the zone boundary of the primitive cell, whose wave vector is
+    n^(−1/3) of the Debye wave vector of all 3n modes. Source: G. A. Slack, Solid State Phys.
+    34, 1 (1979); Toberer, Zevalkink & Snyder, J. Mater. Chem. 21, 15843 (2011).
+    """
+    return np.asarray(debye_temperature, dtype=float) * np.asarray(atoms_per_cell,
+                                                                   dtype=float) ** (-1.0 / 3.0)
+
+
+def _alloy_mass(alloy: AlloySpec, derived: list[Derived]):
+    """Mean mass per atom of an alloy section [kg], recorded with its composition."""
+    from kappa.core.constants import N_A
+    from kappa.core.disorder import site_disorder
+    from kappa.errors import KappaError
+
+    key = "material.alloy"
+    if not (isinstance(alloy.end_members, tuple) and len(alloy.end_members) == 2):
+        raise ConfigError(f"{key}.end_members", alloy.end_members,
+                          "must be two formulas, e.g. [Mg2Si, Mg2Sn]")
+    ALLOY_PARAMETERS["fraction"].check(f"{key}.fraction", alloy.fraction)
+    try:
+        sites = alloy.sites(key)
+        d = site_disorder(sites, strain_parameter=0.0, with_isotopes=False, key=key)
+    except KappaError as exc:
+        raise ConfigError(exc.key, exc.value, exc.allowed) from None
+    mass = _float(np.asarray(d.atomic_mass) * 1e-3 / N_A)
+    derived.append(Derived("material.composition", alloy.formula(), "",
+                           f"alloy of {alloy.end_members[0]} and {alloy.end_members[1]} at "
+                           "material.alloy.fraction, site by site"))
+    derived.append(Derived("material.atomic_mass", mass, "u",
+                           "mean mass per atom of the alloy, standard atomic weights"))
+    return mass
 
 
 def _float(x):
     return float(x) if np.ndim(x) == 0 else x
 
 
-def _branch(b: BranchSpec, i: int, volume, derived: list[Derived]) -> Branch:
+def _branch(b: BranchSpec, i: int, volume, derived: list[Derived], cells=1.0) -> Branch:
     key = f"material.branches.{i}"
     if b.polarization not in ("longitudinal", "transverse"):
         raise ConfigError(f"{key}.polarization", b.polarization,
@@ -388,8 +509,11 @@ def _branch(b: BranchSpec, i: int, volume, derived: list[Derived]) -> Branch:
     else:
         BRANCH_PARAMETERS["sound_velocity"].check(f"{key}.sound_velocity", b.sound_velocity)
         theta = _float(debye_temperature_from_velocity(b.sound_velocity, volume))
-        derived.append(Derived(f"{key}.debye_temperature", theta, "K",
-                               "from the branch's sound velocity and volume per atom"))
+        how = "from the branch's sound velocity and volume per atom"
+        if np.any(np.asarray(cells) != 1.0):
+            theta = _float(acoustic_debye_temperature(theta, cells))
+            how += ", acoustic: times n^(-1/3), n = material.atoms_per_cell"
+        derived.append(Derived(f"{key}.debye_temperature", theta, "K", how))
     for name, value in (("sound_velocity", b.sound_velocity), ("gruneisen", b.gruneisen),
                         ("count", count), ("debye_temperature", theta)):
         BRANCH_PARAMETERS[name].check(f"{key}.{name}", value)

@@ -9,6 +9,7 @@ error messages:
 
 * ``material.NAME`` — e.g. ``material.gruneisen``, ``material.density``;
 * ``material.branches.I.NAME`` — a branch of a per-branch material;
+* ``material.alloy.fraction`` — the fraction x of an alloy section;
 * ``scattering.MECHANISM.NAME`` — e.g. ``scattering.boundary.grain_size``.
 
 :meth:`Model.with_values` sets keys to SI floats or numpy arrays (a batch of parameter sets:
@@ -26,6 +27,7 @@ from dataclasses import dataclass, field, fields, is_dataclass, replace
 import numpy as np
 
 from kappa.core.material import (
+    ALLOY_PARAMETERS,
     BRANCH_PARAMETERS,
     MATERIAL_PARAMETERS,
     Derived,
@@ -118,6 +120,11 @@ class Model:
                                 atomic_volume=material.atomic_volume,
                                 debye_temperature=b.debye_temperature,
                                 sound_velocity=b.sound_velocity, gruneisen=b.gruneisen)
+        if material.has_optical:  # the material's θ are acoustic already
+            n = material.atoms_per_cell
+            if spec.debye_temperature is not None:
+                spec = replace(spec, debye_temperature=spec.debye_temperature * n ** (1 / 3))
+            spec = replace(spec, atoms_per_cell=n)
         return cls(spec, scattering if scattering is not None else Scattering())
 
     # --- the key grammar ---------------------------------------------------------------------
@@ -135,9 +142,17 @@ class Model:
         if head == "material" and len(parts) == 2:
             if parts[1] in MATERIAL_PARAMETERS:
                 return MATERIAL_PARAMETERS[parts[1]]
-            raise _suggest(parts[1], [*MATERIAL_PARAMETERS, "name", "composition", "branches"],
-                           key) if parts[1] not in ("name", "composition", "branches") else \
+            raise _suggest(parts[1], [*MATERIAL_PARAMETERS, "name", "composition", "branches",
+                                      "alloy"],
+                           key) if parts[1] not in ("name", "composition", "branches",
+                                                    "alloy") else \
                 ConfigError(key, allowed="not a numeric key")
+        if head == "material" and len(parts) == 3 and parts[1] == "alloy":
+            if parts[2] in ALLOY_PARAMETERS:
+                return ALLOY_PARAMETERS[parts[2]]
+            if parts[2] == "end_members":
+                raise ConfigError(key, allowed="not a numeric key")
+            raise _suggest(parts[2], [*ALLOY_PARAMETERS, "end_members"], key)
         if head == "material" and len(parts) == 4 and parts[1] == "branches":
             if parts[3] in BRANCH_PARAMETERS:
                 return BRANCH_PARAMETERS[parts[3]]
@@ -157,8 +172,12 @@ class Model:
         """Every numeric key that can be set, fitted or swept in this model → declaration."""
         out: dict[str, Parameter] = {}
         s = self.spec
-        if s.composition is None:
+        if s.composition is None and s.alloy is None:
             out["material.atomic_mass"] = MATERIAL_PARAMETERS["atomic_mass"]
+        if s.alloy is not None:
+            out["material.alloy.fraction"] = ALLOY_PARAMETERS["fraction"]
+        if s.atoms_per_cell is not None:
+            out["material.atoms_per_cell"] = MATERIAL_PARAMETERS["atoms_per_cell"]
         if s.density is not None:
             out["material.density"] = MATERIAL_PARAMETERS["density"]
         else:
@@ -191,9 +210,17 @@ class Model:
     def _why_not(self, key: str) -> str:
         parts = split_key(key)
         s = self.spec
+        if parts[1] == "atomic_mass" and s.alloy is not None:
+            return ("derived from material.alloy in this model; vary material.alloy.fraction "
+                    "instead")
         if parts[1] == "atomic_mass" and s.composition is not None:
             return ("derived from material.composition in this model; change the composition "
                     "instead")
+        if parts[1] == "alloy":
+            return "this model has no material.alloy section"
+        if parts[1] == "atoms_per_cell":
+            return ("this model does not give material.atoms_per_cell (add it to the config to "
+                    "vary it)")
         if parts[1] == "atomic_volume" and s.density is not None:
             return "derived from material.density in this model; use material.density instead"
         if parts[1] == "density":
@@ -236,8 +263,19 @@ class Model:
                 if parts[3] == "count":
                     return m.branches[i].count
                 return getattr(m.branches[i], parts[3])
+            if parts[1] == "alloy":
+                if self.spec.alloy is None:
+                    raise ConfigError(key, allowed=self._why_not(key))
+                return self.spec.alloy.fraction
             if parts[1] in ("atomic_mass", "atomic_volume"):
                 return getattr(m, parts[1])
+            if parts[1] == "atoms_per_cell":
+                return m.atoms_per_cell
+            if parts[1] == "debye_temperature" and not m.per_branch and m.has_optical:
+                # the key is the Debye temperature of all modes; the branch holds θ_a
+                if self.spec.debye_temperature is not None:
+                    return self.spec.debye_temperature
+                return m.branches[0].debye_temperature * m.atoms_per_cell ** (1.0 / 3.0)
             if parts[1] in ("debye_temperature", "sound_velocity", "gruneisen") \
                     and not m.per_branch:
                 return getattr(m.branches[0], parts[1])
@@ -289,6 +327,8 @@ class Model:
             parts = split_key(key)
             if parts[0] == "material" and parts[1] == "branches":
                 branch_changes.setdefault(self._branch_index(key, parts[2]), {})[parts[3]] = value
+            elif parts[0] == "material" and parts[1] == "alloy":
+                material_changes["alloy"] = replace(spec.alloy, **{parts[2]: value})
             elif parts[0] == "material":
                 material_changes[parts[1]] = value
             else:

@@ -3,7 +3,8 @@
 A config has three sections (``kappa new`` writes a commented starter; DEVELOPERS.md lists
 every key)::
 
-    material:     name, composition or atomic_mass, atomic_volume or density, and either
+    material:     name, composition (or alloy: {end_members, fraction}) or atomic_mass,
+                  atomic_volume or density, optionally atoms_per_cell, and either
                   debye_temperature / sound_velocity (or longitudinal_velocity +
                   transverse_velocity) / gruneisen, or branches: [{polarization, count,
                   debye_temperature, sound_velocity, gruneisen}, ...]
@@ -29,7 +30,15 @@ from typing import Any
 import numpy as np
 
 from kappa.core.evaluator import T_MAX
-from kappa.core.material import BRANCH_PARAMETERS, MATERIAL_PARAMETERS, BranchSpec, MaterialSpec
+from kappa.core.material import (
+    ALLOY_PARAMETERS,
+    BRANCH_PARAMETERS,
+    DERIVED_UNITS,
+    MATERIAL_PARAMETERS,
+    AlloySpec,
+    BranchSpec,
+    MaterialSpec,
+)
 from kappa.core.mechanisms import REGISTRY, Umklapp
 from kappa.core.model import Model, split_key
 from kappa.core.parameters import Parameter
@@ -53,8 +62,9 @@ __all__ = [
 ]
 
 TOP_KEYS = ("material", "scattering", "temperature", "notes")
-_TEXT_MATERIAL = ("name", "composition", "branches")
-_MATERIAL_ALL = ("name", "composition", *MATERIAL_PARAMETERS, "branches")
+_TEXT_MATERIAL = ("name", "composition", "branches", "alloy")
+_MATERIAL_ALL = ("name", "composition", *MATERIAL_PARAMETERS, "branches", "alloy")
+_ALLOY_ALL = ("end_members", *ALLOY_PARAMETERS)
 _BRANCH_ALL = ("polarization", *BRANCH_PARAMETERS)
 _TEMPERATURE_ALL = ("start", "stop", "points", "spacing", "values")
 _RANGE_KEYS = ("start", "stop", "points", "spacing")
@@ -109,6 +119,9 @@ def derived_lines(model: Model) -> list[tuple[str, str]]:
 
     out = []
     for d in model.derived:
+        if isinstance(d.value, str):
+            out.append((d.key, f"{d.value} ({d.how})"))
+            continue
         if np.ndim(d.value):
             out.append((d.key, f"varied ({d.how})"))
             continue
@@ -124,6 +137,8 @@ def _si_unit(key: str) -> str:
         table = BRANCH_PARAMETERS if len(parts) == 4 else MATERIAL_PARAMETERS
         if name in table:
             return table[name].unit
+        if name in DERIVED_UNITS:
+            return DERIVED_UNITS[name]
     if parts[0] == "scattering" and len(parts) == 3 and parts[1] in REGISTRY:
         return REGISTRY[parts[1]].parameter(name).unit
     return "1"
@@ -252,6 +267,8 @@ def _check_path(parts: list[str], key: str) -> None:
         _known(parts[1], _MATERIAL_ALL, "material." + parts[1])
         if parts[1] == "branches" and len(parts) > 3:
             _known(parts[3], _BRANCH_ALL, key)
+        if parts[1] == "alloy" and len(parts) > 2:
+            _known(parts[2], _ALLOY_ALL, key)
     elif parts[0] == "scattering" and len(parts) > 1:
         _known(parts[1], tuple(REGISTRY), "scattering." + parts[1])
         if len(parts) > 2:
@@ -344,9 +361,26 @@ def _material(sec: dict) -> MaterialSpec:
                               "give either the averaged-branch keys (debye_temperature, "
                               "sound_velocity, gruneisen) or material.branches, not both")
         branches = _branches(sec["branches"])
+    alloy = _alloy(sec["alloy"]) if sec.get("alloy") is not None else None
     return MaterialSpec(name=str(name or ""),
                         composition=composition.strip() if composition else None,
-                        branches=branches, **values)
+                        branches=branches, alloy=alloy, **values)
+
+
+def _alloy(value: Any) -> AlloySpec:
+    sec = _mapping(value, "material.alloy")
+    for k in sec:
+        _known(k, _ALLOY_ALL, f"material.alloy.{k}")
+    ends = sec.get("end_members")
+    if not (isinstance(ends, list) and len(ends) == 2
+            and all(isinstance(e, str) and e.strip() for e in ends)):
+        raise ConfigError("material.alloy.end_members", ends if ends is not None else
+                          "(missing)", "must be two formulas, e.g. [Mg2Si, Mg2Sn]")
+    if "fraction" not in sec:
+        raise ConfigError("material.alloy.fraction", allowed="missing; the alloy fraction x "
+                          "(0 = first end member, 1 = second) is required")
+    x = parse_value(ALLOY_PARAMETERS["fraction"], sec["fraction"], "material.alloy.fraction")
+    return AlloySpec((ends[0].strip(), ends[1].strip()), x)
 
 
 def _branches(value: Any) -> tuple[BranchSpec, ...]:

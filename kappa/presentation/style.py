@@ -89,9 +89,21 @@ def plot_prediction(prediction: Prediction, overlays: Sequence[tuple[str, Predic
             if np.all(np.isnan(k)):
                 continue
             ax.plot(T, k, ls="--", lw=1.2, label=f"without {mechanism_title(key)}")
+    if prediction.optical is not None and not overlays:
+        ax.plot(T, prediction.acoustic, color="tab:blue", lw=1.0, ls="-.",
+                label="acoustic branches")
+        ax.plot(T, prediction.optical, color="tab:purple", lw=1.0, ls="-.",
+                label="optical modes (Toberer et al. 2011)")
+    if prediction.minimum is not None:
+        from kappa.core.limits import MINIMUM_MODEL
+
+        ax.plot(T, prediction.minimum, color="tab:gray", lw=1.0, ls="--",
+                label=f"minimum κ_L ({MINIMUM_MODEL})")
     if _log_axes(T):
         curves = [prediction.kappa_L, *[p.kappa_L for _, p in overlays],
                   *[k for k in prediction.without.values() if not np.all(np.isnan(k))]]
+        if prediction.minimum is not None:
+            curves.append(prediction.minimum)
         values = np.concatenate([np.asarray(c)[np.isfinite(c)] for c in curves])
         log_axes(ax, x=True, y=bool(values.size and values.min() > 0
                                     and values.max() / values.min() >= 5.0))

@@ -42,6 +42,15 @@ def _fmt_T(T: float) -> str:
     return f"{T:.4g} K"
 
 
+def _minimum(result: SweepResult) -> np.ndarray | None:
+    """The minimum κ_L of the config as written at each temperature (None for a batch)."""
+    from kappa.core.limits import minimum_of_model
+
+    if result.model.batch_shape:
+        return None
+    return minimum_of_model(result.temperature, result.model)
+
+
 def plot_sweep(result: SweepResult):
     """The sweep's figure: lines for one key, contour maps for two or more keys."""
     sizes = [a.values.size for a in result.axes]
@@ -73,9 +82,15 @@ def plot_sweep_lines(result: SweepResult, ax=None):
     k = result.kappa_L[idx]  # (N_d, nT)
     x = axis.shown
     order = np.argsort(x)
-    for t in pick(result.temperature.size, MAX_LINES):
+    kmin = _minimum(result)
+    for n, t in enumerate(pick(result.temperature.size, MAX_LINES)):
         ax.plot(x[order], k[order, t], marker="o" if x.size <= 25 else None, ms=3,
-                label=f"T = {_fmt_T(result.temperature[t])}")
+                color=f"C{n % 10}", label=f"T = {_fmt_T(result.temperature[t])}")
+        if kmin is not None:
+            from kappa.core.limits import MINIMUM_MODEL
+
+            ax.axhline(kmin[t], color=f"C{n % 10}", lw=0.8, ls="--",
+                       label=f"minimum κ_L ({MINIMUM_MODEL}), {_fmt_T(result.temperature[t])}")
     if _log_scale(x, axis.log):
         ax.set_xscale("log")
     kk = k[np.isfinite(k)]
@@ -103,6 +118,7 @@ def plot_sweep_map(result: SweepResult, temperatures: list[int] | None = None):
     x, y = a0.shown, a1.shown
     ox, oy = np.argsort(x), np.argsort(y)
     names = column_names(result.axes)
+    kmin = _minimum(result)
     for p, t in enumerate(ts):
         ax = axes[p // ncols, p % ncols]
         z = k2[np.ix_(ox, oy, [t])][:, :, 0].T  # rows: y, columns: x
@@ -128,6 +144,12 @@ def plot_sweep_map(result: SweepResult, temperatures: list[int] | None = None):
             cb.set_ticklabels([f"{v:.3g}" for v in lines])
             cb.ax.minorticks_off()
             cb.set_label("κ_L [W/(m K)]")
+        if kmin is not None and finite.size and lo < kmin[t] < hi:
+            from kappa.core.limits import MINIMUM_MODEL
+
+            low = ax.contour(x[ox], y[oy], z, levels=[kmin[t]], colors="red",
+                             linewidths=1.2, linestyles="--")
+            ax.clabel(low, fmt=lambda v: f"κ_min {MINIMUM_MODEL} {v:.3g}", fontsize=7)
         if _log_scale(x, a0.log):
             ax.set_xscale("log")
         if _log_scale(y, a1.log):

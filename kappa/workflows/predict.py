@@ -10,14 +10,21 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from kappa.core.checks import model_warnings, temperature_warnings
+from kappa.core.disorder import DISORDER_CITATIONS
 from kappa.core.evaluator import (
     CALLAWAY_CITATION,
     DivergenceError,
     check_temperature,
     conductivity,
+    optical_part,
     result_warnings,
 )
 from kappa.core.heat_capacity import DEBYE_CITATION, heat_capacity
+from kappa.core.limits import (
+    MINIMUM_CITATION,
+    OPTICAL_CITATION,
+    minimum_of_model,
+)
 from kappa.core.model import Model
 from kappa.errors import ConfigError, warn
 
@@ -44,6 +51,11 @@ class Prediction:
     model : Model
         The model it was computed from.
     citations : list of str
+    optical : ndarray or None
+        The optical part of κ_L for a cell with several atoms [W/(m K)] (None for one atom
+        per cell); ``kappa_L`` = Σ ``branches`` + ``optical``.
+    minimum : ndarray
+        The minimum κ_L (:data:`kappa.core.limits.MINIMUM_MODEL`) [W/(m K)], for figures.
     """
 
     temperature: np.ndarray
@@ -53,6 +65,13 @@ class Prediction:
     molar_heat_capacity: np.ndarray
     model: Model = field(repr=False)
     citations: list[str] = field(default_factory=list)
+    optical: np.ndarray | None = None
+    minimum: np.ndarray | None = None
+
+    @property
+    def acoustic(self) -> np.ndarray:
+        """The acoustic branches' part of κ_L [W/(m K)]."""
+        return sum(self.branches.values())
 
 
 def issue_warnings(model: Model, temperature) -> None:
@@ -102,13 +121,25 @@ def predict(model: Model, temperature, *, switch_off: bool = True,
             except DivergenceError:
                 without[mech.key] = np.full(T.shape, np.nan)  # diverges without this mechanism
     kappa = per_branch.sum(axis=0)
+    optical = None
+    if model.material.has_optical:
+        optical = np.broadcast_to(optical_part(model), T.shape).astype(float)
+        kappa = kappa + optical
     if warnings:
         for message in result_warnings(kappa, T):
             warn(message, stacklevel=2)
     cites = [CALLAWAY_CITATION, *model.mechanisms.citations(), DEBYE_CITATION]
+    if optical is not None:
+        cites.append(OPTICAL_CITATION)
+    cites += [c for d in model.derived if d.key.startswith("scattering.point_defect")
+              for c in DISORDER_CITATIONS if c not in cites]
     labels = model.material.branch_labels()
+    minimum = None
+    if not model.batch_shape:
+        minimum = minimum_of_model(T, model)
+        cites.append(MINIMUM_CITATION)
     return Prediction(T, kappa, dict(zip(labels, per_branch, strict=True)), without,
-                      heat_capacity(model.material, T), model, cites)
+                      heat_capacity(model.material, T), model, cites, optical, minimum)
 
 
 def compare(model: Model, key: str, values: Sequence[float], temperature
