@@ -23,7 +23,7 @@ from kappa.presentation.style import KAPPA_L_LABEL, new_figure
 from kappa.workflows.study import CAUTIONS
 
 __all__ = ["render_report", "plot_scenarios", "plot_changes", "plot_zT", "CAUTIONS",
-           "READING", "image_data", "change_text", "interval_text"]
+           "READING", "image_data", "change_text", "interval_text", "zt_text"]
 
 #: How to read the report (shown at its top).
 READING = [
@@ -125,14 +125,15 @@ def plot_changes(run):
         zhi = np.array([a.zT_high for a in rows])
         zerr = np.vstack([np.where(np.isfinite(zlo), z - zlo, 0.0),
                           np.where(np.isfinite(zhi), zhi - z, 0.0)])
-        az.errorbar(z, y, xerr=zerr if np.isfinite(zlo).any() else None, fmt="o",
-                    color="black", capsize=3, ms=5)
+        if np.isfinite(zlo).any():
+            az.errorbar(z, y, xerr=zerr, fmt="none", ecolor="black", capsize=3, lw=1)
         for yi, a in zip(y, rows, strict=True):
-            az.plot([a.zT], [yi], "o", ms=7, color=colors[a.scenario])
+            az.plot([a.zT], [yi], "o", ms=8, color=colors[a.scenario], mec="black", mew=0.8,
+                    zorder=3)
         az.axvline(measured, color="0.4", ls="--", lw=1, label=f"measured {measured:.2f}")
         az.set_xlabel(rf"projected zT at {t0:.4g} K ($S$, $\sigma$ as measured)")
         az.grid(True, axis="x", alpha=0.3)
-        az.legend(fontsize=8, loc="lower right")
+        az.legend(fontsize=8, loc="best")
     fig.suptitle(f"Scenarios for {run.study.projection.sample} at {t0:.4g} K (bars: 68 % from "
                  "the fit)", fontsize=10)
     return fig
@@ -202,10 +203,25 @@ def change_text(a) -> str:
 
 
 def interval_text(value: float, low: float, high: float, digits: int = 3) -> str:
-    """``0.97 (0.92…1.01)`` or just the value without an interval."""
+    """``1.15 (1.12…1.17)`` or just the value without an interval."""
     text = _num(value, digits)
     if math.isfinite(low) and math.isfinite(high):
         text += f" ({_num(low, digits)}…{_num(high, digits)})"
+    return text
+
+
+def _zt(x: float) -> str:
+    """zT with two decimals (two significant digits below 0.1)."""
+    if x is None or not math.isfinite(x):
+        return "–"
+    return (f"{x:.2f}" if abs(x) >= 0.1 else f"{x:.2g}").replace("-", "−")
+
+
+def zt_text(value: float, low: float, high: float) -> str:
+    """``0.97 (0.92…1.01)``: a zT with its interval, if any."""
+    text = _zt(value)
+    if math.isfinite(low) and math.isfinite(high):
+        text += f" ({_zt(low)}…{_zt(high)})"
     return text
 
 
@@ -305,8 +321,8 @@ def _splits(run) -> list[dict]:
             rows.append([f"{r.temperature[i]:.5g}", _num(r.lorenz[i] * 1e8, 3),
                          _num(r.kappa[i]), _num(r.kappa_e[i]),
                          interval_text(r.kappa_L[i], r.kappa_L_low[i], r.kappa_L_high[i]),
-                         "–" if r.zT is None else interval_text(r.zT[i], r.zT_low[i],
-                                                                r.zT_high[i], 2)])
+                         "–" if r.zT is None else zt_text(r.zT[i], r.zT_low[i],
+                                                          r.zT_high[i])])
         lines = run.split_summaries.get(s.name, [])
         out.append({"name": s.name, "notes": s.notes, "rows": rows, "lines": lines,
                     "figure": _figure(run.out, f"1-split/{s.name}/split.png",
@@ -397,7 +413,7 @@ def _scenarios(run) -> dict | None:
                      "trend": "down" if a.change < -1e-12 else ("up" if a.change > 1e-12
                                                                 else ""),
                      "zT": "–" if not math.isfinite(a.zT) else
-                     f"{_num(a.zT_measured, 2)} → {interval_text(a.zT, a.zT_low, a.zT_high, 2)}"})
+                     f"{_zt(a.zT_measured)} → {zt_text(a.zT, a.zT_low, a.zT_high)}"})
     missing = sorted({w.note for _, _, w in run.scenarios if w.note})
     notes = [f"{s.name}: no interval ({w.note})" for s, _, w in run.scenarios if w.note]
     held: dict[str, list[str]] = {}
