@@ -305,6 +305,12 @@ def _bad(tmp_path, change) -> tuple[int, list[str], Path]:
      "you mean 'mass_variance'?"),
     (lambda s: s["scenarios"][1].update(values=[0.05, -1]),
      "error: study.scenarios.1.values.1 = -1"),
+    (lambda s: s["scenarios"][0]["changes"].update({"material.branches.0.gruneisen": 1.0}),
+     "error: study.scenarios.0.changes.material.branches.0.gruneisen = 1: this is an "
+     "averaged-branch model"),
+    (lambda s: s["scenarios"][0]["changes"].update({"temperature.stop": "900 K"}),
+     "error: study.scenarios.0.changes.temperature.stop = 900 K: temperatures are not a "
+     "what-if"),
     (lambda s: s["fit"].update(shared=["material.gruneisn"]),
      "error: study.fit.shared.0 = material.gruneisn: unknown key; did you mean 'gruneisen'?"),
     (lambda s: s.update(sceanrios=[]), "error: study.sceanrios: unknown key; did you mean "

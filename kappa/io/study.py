@@ -159,6 +159,15 @@ def sample_config(base: Config, changes: Mapping[str, Any], where: str, source: 
             raise ConfigError(f"{where}.{k}", v, "temperatures are not a what-if; set the "
                               "curves' temperatures with study.projection.temperature")
         try:
+            base.model.parameter(str(k))
+        except KappaError:
+            pass  # a text key (material.composition) or a typo: set_value names it below
+        else:
+            try:  # a numeric key must apply to this model (not a branch of an averaged one)
+                base.model.check_key(str(k))
+            except KappaError as exc:
+                raise ConfigError(f"{where}.{k}", v, exc.allowed) from None
+        try:
             data = set_value(data, str(k), v)
         except KappaError as exc:
             raise prefixed(exc, where) from None
