@@ -103,6 +103,12 @@ def _check_runs(python: Path, src: Path, work: Path, env, expect_in: Path) -> No
     assert (work / "grains" / "sweep.csv").exists()
     _run([kappa, "new", "my-material.yaml"], work, env)
     assert (work / "my-material.yaml").exists()
+    # the demo's files and the report template ship with the package (kappa demo needs them)
+    shipped = _run([python, "-c", "from importlib.resources import files; "
+                    "from kappa.cli.demo import demo_files; "
+                    "print(len(demo_files()), files('kappa').joinpath("
+                    "'templates/report.html.j2').is_file())"], work, env).stdout.split()
+    assert shipped == ["7", "True"], shipped
     where = _run([python, "-c", "import kappa; print(kappa.__file__)"], work, env).stdout
     assert Path(where.strip()).resolve().is_relative_to(expect_in.resolve()), where
 

@@ -12,7 +12,9 @@ app = typer.Typer(
     name="kappa",
     help=(
         "Lattice thermal conductivity of solids: Callaway/Debye predictions, lattice/electronic "
-        "split of measured data, fits and parameter sweeps.\n\n" + common.CAUTION
+        "split of measured data, fits and parameter sweeps, and whole studies from measured "
+        "samples to a report ('kappa study'; try 'kappa demo -o demo-report').\n\n"
+        + common.CAUTION
     ),
     no_args_is_help=True,
     pretty_exceptions_enable=False,
@@ -49,7 +51,7 @@ def _register() -> None:
 
 #: Command modules in ``kappa/cli/``; each defines ``register(app)``.
 COMMANDS: list[str] = ["new", "check", "predict", "split", "fit", "sweep", "spectrum",
-                       "disorder", "material", "alloy"]
+                       "disorder", "material", "alloy", "study", "demo"]
 
 _register()
 
