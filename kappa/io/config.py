@@ -6,7 +6,8 @@ every key)::
     material:     name, composition or atomic_mass, atomic_volume or density, and either
                   debye_temperature / sound_velocity (or longitudinal_velocity +
                   transverse_velocity) / gruneisen, or branches: [{polarization, count,
-                  debye_temperature, sound_velocity, gruneisen}, ...]
+                  debye_temperature, sound_velocity, gruneisen, dispersion: debye|sine,
+                  zone_boundary_frequency}, ...]
     scattering:   one section per mechanism of the registry (kappa.core.mechanisms)
     temperature:  {start, stop, points, spacing: linear|log} or {values: [...]}
 
@@ -29,7 +30,13 @@ from typing import Any
 import numpy as np
 
 from kappa.core.evaluator import T_MAX
-from kappa.core.material import BRANCH_PARAMETERS, MATERIAL_PARAMETERS, BranchSpec, MaterialSpec
+from kappa.core.material import (
+    BRANCH_PARAMETERS,
+    DISPERSIONS,
+    MATERIAL_PARAMETERS,
+    BranchSpec,
+    MaterialSpec,
+)
 from kappa.core.mechanisms import REGISTRY, Umklapp
 from kappa.core.model import Model, split_key
 from kappa.core.parameters import Parameter
@@ -55,7 +62,7 @@ __all__ = [
 TOP_KEYS = ("material", "scattering", "temperature", "notes")
 _TEXT_MATERIAL = ("name", "composition", "branches")
 _MATERIAL_ALL = ("name", "composition", *MATERIAL_PARAMETERS, "branches")
-_BRANCH_ALL = ("polarization", *BRANCH_PARAMETERS)
+_BRANCH_ALL = ("polarization", "dispersion", *BRANCH_PARAMETERS)
 _TEMPERATURE_ALL = ("start", "stop", "points", "spacing", "values")
 _RANGE_KEYS = ("start", "stop", "points", "spacing")
 
@@ -369,7 +376,11 @@ def _branches(value: Any) -> tuple[BranchSpec, ...]:
                                   "sound_velocity and gruneisen (debye_temperature optional)")
         numbers = {name: parse_value(p, sec[name], f"{key}.{name}")
                    for name, p in BRANCH_PARAMETERS.items() if name in sec}
-        out.append(BranchSpec(pol, **numbers))
+        dispersion = sec.get("dispersion", "debye")
+        if dispersion not in DISPERSIONS:
+            raise ConfigError(f"{key}.dispersion", dispersion,
+                              "allowed: " + ", ".join(DISPERSIONS))
+        out.append(BranchSpec(pol, dispersion=dispersion, **numbers))
     return tuple(out)
 
 

@@ -29,7 +29,13 @@ _GAMMA_BASIS = ("common practice, no source: Γ above 1 is far outside the pertu
 
 @dataclass(frozen=True)
 class PointDefect(Mechanism):
-    """Point-defect (mass and strain disorder) Rayleigh scattering, Klemens form (ω⁴)."""
+    """Point-defect (mass and strain disorder) Rayleigh scattering, Klemens form (ω⁴).
+
+    On a curved branch the rate keeps this form (``velocity = "sound"``): V₀/(4πv³) is the
+    Debye density of states of the branch. With the density of states of an isotropic sine
+    branch, ∝ q²/v_g, the rate would diverge at the zone boundary — a van Hove singularity that
+    a real crystal spreads over its zone — so kappa does not use it there.
+    """
 
     mass_variance: float = 0.0
     strain_variance: float = 0.0
