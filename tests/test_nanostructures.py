@@ -126,7 +126,7 @@ def _lognormal_rate(omega, r0, width, n_p):
                           points=[math.log(r0)])[0]
 
 
-@pytest.mark.parametrize("width", [0.2, 0.5])
+@pytest.mark.parametrize("width", [0.2, 0.5, 1.0])
 def test_size_distribution_against_adaptive_quadrature(width):
     section = dict(PRECIPITATE, width=width)
     model = _model(precipitate=section)

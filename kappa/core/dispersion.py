@@ -54,7 +54,6 @@ import math
 import numpy as np
 
 from kappa.core import quadrature as _q
-from kappa.core.constants import h, hbar, k_B
 
 __all__ = [
     "DISPERSIONS",
@@ -66,7 +65,6 @@ __all__ = [
     "MAX_CURVED_NODES",
     "S_SWITCH",
     "sine_debye_function",
-    "top_frequency",
     "zone_boundary_from_velocity",
 ]
 
@@ -81,11 +79,6 @@ _MAX_PHI_PANELS = math.ceil(_q.X_CUT * (math.pi / 2) / _q.LIN_WIDTH)  # x_zb·φ
 MAX_CURVED_NODES = _q.LOG_PANELS * _q.LOG_NODES + _MAX_PHI_PANELS * PHI_NODES
 _GL_PHI = np.polynomial.legendre.leggauss(PHI_NODES)
 _LOG_REL = _q.relative_log_rule()
-
-
-def top_frequency(debye_temperature):
-    """ω_top = k_Bθ/ħ [rad/s], the highest angular frequency of a branch of temperature θ [K]."""
-    return k_B * np.asarray(debye_temperature, dtype=float) / hbar
 
 
 def zone_boundary_from_velocity(sound_velocity, atomic_volume):
@@ -270,8 +263,3 @@ def sine_debye_function(x_top, x_zb) -> np.ndarray:
             total += float(np.sum(0.5 * (b - a) * q * y * y * wx / (x * x)))
         out[idx] = 3.0 * total / y_top**3
     return out
-
-
-def zone_boundary_frequency_of(debye_temperature):
-    """ν_zb = k_Bθ/h [Hz]: the zone-boundary frequency of a sine branch that ends there."""
-    return k_B * np.asarray(debye_temperature, dtype=float) / h

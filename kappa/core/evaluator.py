@@ -248,7 +248,7 @@ def _integrals_curved(tops: np.ndarray, zbs: np.ndarray, res_x: np.ndarray, nrm_
     res_x = np.ascontiguousarray(np.broadcast_to(res_x, (S, 2, NPOW)))
     nrm_x = np.ascontiguousarray(np.broadcast_to(nrm_x, (S, NPOW)))
     if rule_index is None:
-        pairs, grid = np.unique(np.stack([tops, zbs], axis=1), axis=0, return_inverse=True)
+        pairs, grid = _unique_pairs(tops, zbs)
     else:
         pairs, grid = rule_index
     grid = np.ascontiguousarray(grid, dtype=np.int64).ravel()
@@ -270,6 +270,16 @@ def _integrals_curved(tops: np.ndarray, zbs: np.ndarray, res_x: np.ndarray, nrm_
                               np.ascontiguousarray(res_low), np.ascontiguousarray(nrm_low), has,
                               bt, bq, out)
     return out
+
+
+def _unique_pairs(tops: np.ndarray, zbs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Distinct (top, x_zb) rows, shape (n, 2), and each sample's row (one 1-D sort: the pairs
+    as complex numbers, which sort by real part, then imaginary part)."""
+    key = np.empty(np.size(tops), dtype=complex)
+    key.real = np.ravel(tops)
+    key.imag = np.ravel(zbs)  # inf for Debye branches (kept: no inf·1j arithmetic)
+    u, g = np.unique(key, return_inverse=True)
+    return np.stack([u.real, u.imag], axis=1), g.ravel()
 
 
 def _node_rates(branch_parts: list, xx: np.ndarray, grid: np.ndarray):
@@ -379,9 +389,7 @@ def _chunk(material, mechanisms: Scattering, T: np.ndarray, exclude: Sequence[st
                 u = np.stack([u, zbs[j, 0]], axis=1)
             g = np.broadcast_to(np.arange(T.size), shape).ravel()
         elif curved:
-            u, g = np.unique(np.stack([np.minimum(tops[j], X_CUT).ravel(), zbs[j].ravel()],
-                                      axis=1), axis=0, return_inverse=True)
-            g = g.ravel()
+            u, g = _unique_pairs(np.minimum(tops[j], X_CUT).ravel(), zbs[j].ravel())
         else:
             u, g = np.unique(np.minimum(tops[j], X_CUT), return_inverse=True)
             g = g.ravel()

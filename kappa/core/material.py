@@ -20,7 +20,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from kappa.core.constants import h, hbar, k_B, u
-from kappa.core.dispersion import DISPERSIONS, zone_boundary_from_velocity
+from kappa.core.dispersion import DISPERSIONS, SINE_CITATION, zone_boundary_from_velocity
 from kappa.core.parameters import Parameter
 from kappa.errors import ConfigError
 
@@ -246,6 +246,10 @@ class Material:
     def max_debye_temperature(self):
         """The largest branch Debye temperature [K] (the one the model's range refers to)."""
         return np.max(np.array([np.max(b.debye_temperature) for b in self.branches]))
+
+    def citations(self) -> list[str]:
+        """Citations of the branch models beyond Debye's (the sine dispersion, if used)."""
+        return [SINE_CITATION] if any(b.curved for b in self.branches) else []
 
     def branch_labels(self) -> tuple[str, ...]:
         """``("average",)`` or ``("longitudinal", "transverse", ...)`` (numbered if repeated)."""

@@ -105,7 +105,8 @@ def predict(model: Model, temperature, *, switch_off: bool = True,
     if warnings:
         for message in result_warnings(kappa, T):
             warn(message, stacklevel=2)
-    cites = [CALLAWAY_CITATION, *model.mechanisms.citations(), DEBYE_CITATION]
+    cites = [CALLAWAY_CITATION, *model.material.citations(), *model.mechanisms.citations(),
+             DEBYE_CITATION]
     labels = model.material.branch_labels()
     return Prediction(T, kappa, dict(zip(labels, per_branch, strict=True)), without,
                       heat_capacity(model.material, T), model, cites)

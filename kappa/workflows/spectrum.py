@@ -340,7 +340,7 @@ def spectrum(model: Model, temperature, *, points: int = SPECTRUM_POINTS,
         all_mfp.append(tuple(built))
     mfp50 = np.array([_fraction_mfp(b, 0.5) for b in all_mfp])
     mfp80 = np.array([_fraction_mfp(b, 0.8) for b in all_mfp])
-    cites = [CALLAWAY_CITATION, *model.mechanisms.citations()]
+    cites = [CALLAWAY_CITATION, *model.material.citations(), *model.mechanisms.citations()]
     return Spectrum(T, labels, freq, spec, cum, mfp, rates, branch_kappa.sum(axis=1),
                     branch_kappa, beta, tuple(nodes), tuple(accs), mfp50, mfp80, model, cites,
                     tuple(all_mfp))
