@@ -289,11 +289,16 @@ def test_group_velocity_vanishes_at_the_zone_boundary():
 def test_sine_branch_in_every_command(tmp_path):
     import yaml
 
+    # one sine branch, no normal processes: the plumbing of every command (the physics of the
+    # spectrum is checked above)
+    base = set_value(set_value(BASE, "material.branches.0.dispersion", "debye"),
+                     "scattering", {"boundary": {"grain_size": "5 mm"},
+                                    "point_defect": {"mass_variance": 2.01e-4}})
     cfg = tmp_path / "sine.yaml"
-    cfg.write_text(yaml.safe_dump(BASE), encoding="utf-8")
+    cfg.write_text(yaml.safe_dump(base), encoding="utf-8")
     data = tmp_path / "k.csv"
     T = np.array([50.0, 100.0, 200.0, 300.0, 500.0])
-    truth = conductivity(config_from_dict(BASE).model.with_values(
+    truth = conductivity(config_from_dict(base).model.with_values(
         {"material.branches.1.gruneisen": 0.7}), T)
     data.write_text("T [K],kappa_L [W/(m K)]\n" + "".join(
         f"{t},{float(k)!r}\n" for t, k in zip(T, truth, strict=True)), encoding="utf-8")

@@ -137,8 +137,9 @@ def curved_rule(x_top: float, x_zb: float) -> tuple[np.ndarray, np.ndarray, np.n
     """
     if not x_top > 0:
         raise ValueError("x_top must be > 0")
-    if not x_zb >= x_top * (1.0 - 1e-12):
+    if not x_zb >= x_top * (1.0 - 1e-9):  # the tolerance of the material's check
         raise ValueError("x_zb must be at least x_top")
+    x_zb = max(float(x_zb), float(x_top))
     x_top = min(float(x_top), _q.X_CUT)
     if not math.isfinite(x_zb) or x_top <= S_SWITCH * x_zb:
         # the whole branch lies where the sine is nearly straight, or it is a Debye branch:

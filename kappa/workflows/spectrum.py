@@ -98,6 +98,7 @@ class _Branch:
     @property
     def span(self) -> tuple[float, float]:
         lams = np.concatenate([p[1] for p in self.pieces])
+        lams = lams[lams > 0]  # v_g = 0 at a sine branch's zone boundary: Λ = 0, no heat
         return float(lams.min()), float(lams.max())
 
     def intervals(self, lams: np.ndarray) -> list[tuple[np.ndarray, np.ndarray]]:
