@@ -270,13 +270,15 @@ def test_per_branch_silicon_fit_reproduces_measured_conductivity():
 
     300 K: 148–156 W/(m K) (P, midpoint 152 used); 100 K ≈ 880–950 (M, 915 used);
     200 K ≈ 260–270 (M, 265); 400 K ≈ 100 (M); 600 K ≈ 62 (M) — as listed in tests/reference_values.py.
-    The per-branch model of configs/silicon.yaml (Morelli, Heremans & Slack, PRB 66, 195304
-    (2002) branch parameters, natural-isotope Γ = 2.01e-4, normal processes in the branch
-    forms) with γ_L, γ_T and the normal-process scale free reproduces the five points within
-    10 % (the M values themselves carry ≥ 10 % tolerance); the Grüneisen parameters must come
-    out physically plausible (0.3–3, common practice, no source).
+    The all-Debye per-branch model of kappa 0.1.0's silicon config (tests/data; Morelli,
+    Heremans & Slack, PRB 66, 195304 (2002) branch parameters, natural-isotope Γ = 2.01e-4,
+    normal processes in the branch forms) with γ_L, γ_T and the normal-process scale free
+    reproduces the five points within 10 % (the M values themselves carry ≥ 10 % tolerance);
+    the Grüneisen parameters must come out physically plausible (0.3–3, common practice, no
+    source), and the fit must say that five points do not separate them. (The current
+    configs/silicon.yaml, with sine transverse branches, is checked in tests/test_silicon.py.)
     """
-    cfg = load_config(CONFIGS / "silicon.yaml").model
+    cfg = load_config(CONFIGS.parent / "tests" / "data" / "silicon-0.1.0.yaml").model
     T = np.array([100.0, 200.0, 300.0, 400.0, 600.0])
     measured = np.array([915.0, 265.0, 152.0, 100.0, 62.0])
     free = ["material.branches.0.gruneisen", "material.branches.1.gruneisen",

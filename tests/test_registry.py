@@ -5,6 +5,7 @@ Generic checks per mechanism: a citation and a title; rates ≥ 0 and finite fro
 cutoff at low, room and high temperature; a batch of parameter sets gives the numbers of each
 set alone; every numeric parameter round-trips through a config (written in its display unit),
 ``--set``, a sweep and a fit (noise-free synthetic data made with a changed value is fitted back).
+Parameters that are alternatives (``Mechanism.exclusive``) are given one at a time.
 """
 
 from __future__ import annotations
@@ -48,20 +49,32 @@ def _value(p):
     return 1.0
 
 
+def _left_out(cls, p_name=None):
+    """Parameters left at their defaults: all but one of each group of alternatives
+    (``cls.exclusive``, e.g. a volume fraction or a number density) — ``p_name`` if it is in
+    the group, else the group's first."""
+    out = set()
+    for group in cls.exclusive:
+        keep = p_name if p_name in group else group[0]
+        out |= {n for n in group if n != keep}
+    return out
+
+
 def _section(cls, p_name=None, value=None):
     """Config section of mechanism ``cls`` with typical values, written in display units."""
     out = {}
+    skip = _left_out(cls, p_name)
     for p in cls.parameters:
-        if not p.numeric:
+        if not p.numeric or p.name in skip:
             continue
-        v = value if p.name == p_name else _value(p)
+        v = value if p.name == p_name and value is not None else _value(p)
         shown = float(p.shown(v))
         out[p.name] = shown if p.shown_unit in ("1", "") else f"{shown!r} {p.shown_unit}"
     return out
 
 
-def _model_with(cls):
-    data = set_value(PER_BRANCH, f"scattering.{cls.key}", _section(cls))
+def _model_with(cls, p_name=None):
+    data = set_value(PER_BRANCH, f"scattering.{cls.key}", _section(cls, p_name))
     return config_from_dict(data)
 
 
@@ -102,9 +115,9 @@ def test_rates_are_non_negative_and_finite(mechanism):
 
 
 def test_batch_equals_single_sets(mechanism):
-    model = _model_with(mechanism).model
     T = [30.0, 300.0]
     for p in _numeric(mechanism):
+        model = _model_with(mechanism, p.name).model
         key = f"scattering.{mechanism.key}.{p.name}"
         if model.unused(key):
             continue
@@ -118,9 +131,9 @@ def test_batch_equals_single_sets(mechanism):
 
 
 def test_parameters_round_trip_through_config_set_sweep_and_fit(mechanism):
-    cfg = _model_with(mechanism)
-    model = cfg.model
     for p in _numeric(mechanism):
+        cfg = _model_with(mechanism, p.name)
+        model = cfg.model
         key = f"scattering.{mechanism.key}.{p.name}"
         if model.unused(key):
             continue

@@ -34,7 +34,17 @@ from kappa.workflows.sweep import sweep
 ROOT = Path(__file__).resolve().parents[1]
 BEFORE = json.loads((ROOT / "tests" / "data" / "before-redesign.json").read_text())
 RTOL_SAME = 1e-9  # same physics, same quadrature: rounding only
+# Bundled configs that have since been re-derived: the fixture's numbers belong to the configs
+# as they were then, kept under tests/data.
+FROZEN = {"configs/silicon.yaml": "tests/data/silicon-0.1.0.yaml",
+          "configs/germanium.yaml": "tests/data/germanium-0.1.0.yaml"}
+
+
 RTOL_FIT = 1e-6  # the solver's tolerance
+
+
+def _config(name: str) -> Path:
+    return ROOT / FROZEN.get(name, name)
 
 
 def _close(got, expected, rtol=RTOL_SAME):
@@ -54,7 +64,7 @@ def _quiet():
 @pytest.mark.parametrize("name", list(BEFORE["predict"]))
 def test_predict_unchanged(name):
     rec = BEFORE["predict"][name]
-    cfg = load_config(ROOT / rec.get("config", name), rec.get("set", []))
+    cfg = load_config(_config(rec.get("config", name)), rec.get("set", []))
     p = predict(cfg.model, cfg.temperature)
     _close(p.temperature, rec["T"])
     _close(p.kappa_L, rec["kappa_L"])
@@ -69,7 +79,7 @@ def test_predict_unchanged(name):
 @pytest.mark.parametrize("name", list(BEFORE["sweep"]))
 def test_sweep_unchanged(name):
     rec = BEFORE["sweep"][name]
-    model = load_config(ROOT / rec["config"]).model
+    model = load_config(_config(rec["config"])).model
     r = sweep(model, [parse_vary(model, v) for v in rec["vary"]], rec["T"])
     assert list(r.kappa_L.shape) == rec["shape"]
     _close(r.kappa_L, rec["kappa_L"])
@@ -79,7 +89,7 @@ def test_sweep_unchanged(name):
 @pytest.mark.parametrize("config", list(BEFORE["spectrum"]))
 def test_spectrum_unchanged(config):
     rec = BEFORE["spectrum"][config]
-    sp = spectrum(load_config(ROOT / rec.get("config", config)).model, rec["T"])
+    sp = spectrum(load_config(_config(rec.get("config", config))).model, rec["T"])
     _close(sp.kappa_L, rec["kappa_L"])
     _close(sp.branch_kappa, rec["branch_kappa"])
     _close(sp.mfp50, rec["mfp50"])
@@ -98,7 +108,7 @@ def test_spectrum_unchanged(config):
 @pytest.mark.parametrize("name", list(BEFORE["model_values"]))
 def test_model_values_unchanged(name):
     rec = BEFORE["model_values"][name]
-    model = load_config(ROOT / rec["config"]).model.with_values(rec["values"])
+    model = load_config(_config(rec["config"])).model.with_values(rec["values"])
     _close(conductivity(model, rec["T"]), rec["kappa_L"])
 
 

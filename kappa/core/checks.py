@@ -57,7 +57,8 @@ def model_warnings(model: Model) -> list[str]:
         if value is not None and p.unusual(value):
             out.append(_unusual(f"material.{name}", p, value))
     for i, b in enumerate(s.branches or ()):
-        for name in ("debye_temperature", "sound_velocity", "gruneisen"):
+        for name in ("debye_temperature", "sound_velocity", "gruneisen",
+                     "zone_boundary_frequency"):
             value = getattr(b, name)
             p = BRANCH_PARAMETERS[name]
             if value is not None and p.unusual(value):

@@ -10,6 +10,11 @@ over x = ħω/(k_B T) from 0 to x_D = θ_j/T, with w(x) = x⁴eˣ/(eˣ−1)², �
 resistive rates, τ_N⁻¹ the normal-process rate and τ_c⁻¹ = τ_R⁻¹ + τ_N⁻¹. Without normal
 processes I₂ = I₃ = 0.
 
+On a branch with a dispersion (``dispersion: sine``) the weights of I₁, I₂, I₃ carry the
+factors F₁, F₂, F₃ of :mod:`kappa.core.dispersion` (group velocity and density of states), the
+rule integrates in φ near the zone boundary, and the resistive rates written with a velocity
+carry over as each mechanism's ``velocity`` says (``flux``: × g p^k).
+
 This module owns, once: the assembly of the mechanisms' rates per branch, the ω → x scaling,
 the prefactor, the normal-process correction I₂²/I₃, the choice of quadrature rule, the kernel
 dispatch and the convergence check. :func:`conductivity` evaluates a model — or a batch of
@@ -26,7 +31,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from kappa.core import quadrature as _q
-from kappa.core.constants import hbar, k_B
+from kappa.core.constants import h, hbar, k_B
+from kappa.core.dispersion import curved_rules, sine_factors
 from kappa.core.mechanisms import NPOW, Mechanism, RateContext
 from kappa.core.model import Model, batch_map
 from kappa.core.quadrature import X_CUT, block_rule, rules
@@ -54,6 +60,7 @@ T_MAX = 1e5  #: highest temperature accepted [K] (solids melt below about 4,000 
 KAPPA_MAX = 1e5  #: κ_L above this [W/(m K)] is beyond any known solid (a warning)
 _SAMPLES_POLY = 1 << 17  #: samples per kernel call, polynomial rates
 _SAMPLES_NODES = 1 << 14  #: samples per kernel call when rates are evaluated on the nodes
+_SAMPLES_CURVED = 1 << 14  #: samples per kernel call with a curved branch (rules are larger)
 _SERIAL_BELOW = 20_000  #: fewer samples than this run in one thread (no thread-pool start-up)
 _ARRAY_BELOW = 4_096  #: fewer samples than this are integrated with numpy (no compiled code to load)
 _BLOCK = block_rule()
@@ -101,6 +108,7 @@ class _Rates:
     nrm_other: tuple[Mechanism, ...]
     res_low_k: dict[int, np.ndarray]  # ω → 0 limit of the non-polynomial parts
     nrm_low_k: dict[int, np.ndarray]
+    res_flux_k: dict[int, np.ndarray]  # curved branch: × g p^k (v_g × cross-section(q))
 
     def dense(self, which: str) -> np.ndarray:
         """Coefficients as an array of shape ``shape + (5,)`` [s^(k−1)]."""
@@ -112,7 +120,7 @@ class _Rates:
     def low_order(self) -> np.ndarray:
         """Largest resistive ω⁰–ω² coefficient (polynomial and low-frequency parts), ``shape``."""
         low = np.zeros(self.shape)
-        for d in (self.res_k, self.res_low_k):
+        for d in (self.res_k, self.res_low_k, self.res_flux_k):
             for k, c in d.items():
                 if k < 3:
                     low = np.maximum(low, c)
@@ -128,22 +136,28 @@ def _assemble(ctx: RateContext, exclude: Sequence[str]) -> _Rates:
     """Sum the switched-on mechanisms' rates for one branch; ``exclude`` drops resistive ones.
 
     Normal processes are always taken from the full model (switching off a resistive mechanism
-    does not switch off the normal processes tied to it).
+    does not switch off the normal processes tied to it). On a curved branch the polynomial
+    resistive rates go by their ``velocity`` form (as written, or × g p^k).
     """
     res: dict = {}
     nrm: dict = {}
     res_low: dict = {}
     nrm_low: dict = {}
+    flux: dict = {}
+    by_form = {"sound": res, "flux": flux}
     res_other, nrm_other = [], []
+    curved = ctx.branch.curved
     for m in ctx.scattering.active:
         if m.resistive and m.key in exclude:
             continue
         if m.polynomial:
-            _sum_into(res if m.resistive else nrm, m.coefficients(ctx))
+            target = by_form[m.velocity if curved else "sound"] if m.resistive else nrm
+            _sum_into(target, m.coefficients(ctx))
         else:
             _sum_into(res_low if m.resistive else nrm_low, m.low_frequency(ctx))
             (res_other if m.resistive else nrm_other).append(m)
-    return _Rates(ctx.shape, res, nrm, tuple(res_other), tuple(nrm_other), res_low, nrm_low)
+    return _Rates(ctx.shape, res, nrm, tuple(res_other), tuple(nrm_other), res_low, nrm_low,
+                  flux)
 
 
 def _omega_powers(T: np.ndarray) -> np.ndarray:
@@ -232,6 +246,57 @@ def _integrals(tops: np.ndarray, res_x: np.ndarray, nrm_x: np.ndarray, nodes=Non
     return out
 
 
+def _integrals_curved(tops: np.ndarray, zbs: np.ndarray, res_x: np.ndarray, nrm_x: np.ndarray,
+                      nodes=None, rule_index=None) -> np.ndarray:
+    """(I₁, I₂, I₃) with the weights of curved branches; shape (S, 3) [s].
+
+    ``tops``, ``zbs`` (S,): upper limits θ/T and x_zb = ħω_zb/(k_BT) (inf: a Debye branch).
+    ``res_x`` (S, 2, 5): resistive coefficients of x^k as written and × g p^k;
+    ``nrm_x`` (S, 5). ``nodes`` and ``rule_index`` as in :func:`_integrals` (the distinct
+    (top, x_zb) pairs as an (n, 2) array and each sample's row).
+    """
+    tops = np.asarray(tops, dtype=float).ravel()
+    S = tops.size
+    zbs = np.broadcast_to(np.asarray(zbs, dtype=float), (S,)).ravel()
+    res_x = np.ascontiguousarray(np.broadcast_to(res_x, (S, 2, NPOW)))
+    nrm_x = np.ascontiguousarray(np.broadcast_to(nrm_x, (S, NPOW)))
+    if rule_index is None:
+        pairs, grid = _unique_pairs(tops, zbs)
+    else:
+        pairs, grid = rule_index
+    grid = np.ascontiguousarray(grid, dtype=np.int64).ravel()
+    xx, wq, gp, count, x_s = curved_rules(pairs[:, 0], pairs[:, 1])
+    res_low = res_x.sum(axis=1)
+    nrm_low = nrm_x
+    if nodes is None:
+        rn = nn = np.zeros((1, 1))
+        has = False
+    else:
+        rn, nn, rl, nl = nodes(xx, grid)
+        res_low = res_low + rl
+        nrm_low = nrm_low + nl
+        has = True
+    from kappa.core.kernels import callaway_integrals_curved
+
+    bt, bq = _BLOCK
+    out = np.empty((S, 3))
+    callaway_integrals_curved(xx, wq, gp, count, x_s, grid, res_x, nrm_x,
+                              np.ascontiguousarray(rn), np.ascontiguousarray(nn),
+                              np.ascontiguousarray(res_low), np.ascontiguousarray(nrm_low), has,
+                              bt, bq, out)
+    return out
+
+
+def _unique_pairs(tops: np.ndarray, zbs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Distinct (top, x_zb) rows, shape (n, 2), and each sample's row (one 1-D sort: the pairs
+    as complex numbers, which sort by real part, then imaginary part)."""
+    key = np.empty(np.size(tops), dtype=complex)
+    key.real = np.ravel(tops)
+    key.imag = np.ravel(zbs)  # inf for Debye branches (kept: no inf·1j arithmetic)
+    u, g = np.unique(key, return_inverse=True)
+    return np.stack([u.real, u.imag], axis=1), g.ravel()
+
+
 def _node_rates(branch_parts: list, xx: np.ndarray, grid: np.ndarray):
     """Non-polynomial rates on the rule nodes for every sample, in sample order."""
     res_nodes, nrm_nodes, res_low, nrm_low = [], [], [], []
@@ -257,7 +322,7 @@ def _node_rates(branch_parts: list, xx: np.ndarray, grid: np.ndarray):
 
 
 def conductivity_from_rates(x_top, prefactor, res_omega, nrm_omega, temperature,
-                            nodes=None, rule_index=None) -> np.ndarray:
+                            nodes=None, rule_index=None, x_zb=None) -> np.ndarray:
     """κ for flat arrays of samples (one branch at one temperature each): the workhorse.
 
     Parameters
@@ -267,13 +332,17 @@ def conductivity_from_rates(x_top, prefactor, res_omega, nrm_omega, temperature,
     prefactor : ndarray, shape (S,)
         (n_j/3) k_B/(2π² v_j) (k_B T/ħ)³ [W/(m K s)].
     res_omega, nrm_omega : ndarray, shape (S, 5)
-        Resistive and normal rate coefficients of ω^k [s^(k−1)].
+        Resistive and normal rate coefficients of ω^k [s^(k−1)]. With ``x_zb`` the resistive
+        ones may have shape (S, 2, 5): as written and × g p^k (see
+        :mod:`kappa.core.dispersion`).
     temperature : ndarray, shape (S,)
         Temperature of each sample [K].
     nodes : callable, optional
         Non-polynomial rate parts (see :func:`_integrals`).
     rule_index : (ndarray, ndarray), optional
         Distinct upper limits and each sample's index among them, if known.
+    x_zb : ndarray, shape (S,), optional
+        ħω_zb/(k_BT) of sine branches (inf for Debye ones): the curved-branch integrals.
 
     Returns
     -------
@@ -281,6 +350,13 @@ def conductivity_from_rates(x_top, prefactor, res_omega, nrm_omega, temperature,
         Contribution of each sample to κ_L [W/(m K)].
     """
     pw = _omega_powers(temperature)
+    if x_zb is not None:
+        res = np.asarray(res_omega, dtype=float)
+        if res.ndim == 2:
+            res = np.stack([res, np.zeros_like(res)], axis=1)
+        out = _integrals_curved(x_top, x_zb, res * pw[:, None, :], np.asarray(nrm_omega) * pw,
+                                nodes, rule_index)
+        return np.asarray(prefactor) * _normal_correction(out[:, 0], out[:, 1], out[:, 2])
     out = _integrals(x_top, np.asarray(res_omega) * pw, np.asarray(nrm_omega) * pw, nodes,
                      rule_index)
     return np.asarray(prefactor) * _normal_correction(out[:, 0], out[:, 1], out[:, 2])
@@ -291,44 +367,62 @@ def _chunk(material, mechanisms: Scattering, T: np.ndarray, exclude: Sequence[st
     """κ per branch for one chunk of parameter sets: (nB, c, nT) [W/(m K)].
 
     Array-valued parameters have shape (c, 1); temperatures enter as (1, nT). The rates of
-    all branches go into one flat kernel call (samples ordered branch, parameter set, T).
+    all branches go into one flat kernel call (samples ordered branch, parameter set, T); with
+    a curved branch, the kernel of curved branches takes them all (a Debye branch is one with
+    x_zb = inf there).
     """
     T_row = T[None, :]
     shape = (c, T.size)
     n = c * T.size
     nB = len(material.branches)
+    curved = any(b.curved for b in material.branches)
     pw = _omega_powers(T_row)  # (1, nT, 5): ω^k → x^k
-    res_x = np.zeros((nB, c, T.size, NPOW))
+    res_x = np.zeros((nB, c, T.size, 2 if curved else 1, NPOW))
     nrm_x = np.zeros((nB, c, T.size, NPOW))
     tops = np.empty((nB, c, T.size))
+    zbs = np.full((nB, c, T.size), np.inf)
     pres = np.empty((nB, c, T.size))
     parts, uniq, grids, offset, has_normal = [], [], [], 0, False
     for j, branch in enumerate(material.branches):
         ctx = RateContext(material, branch, T_row, mechanisms, shape)
         rates = _assemble(ctx, exclude)
-        for k, coefficient in rates.res_k.items():
-            res_x[j, ..., k] = coefficient * pw[..., k]
+        for form, d in enumerate((rates.res_k, rates.res_flux_k)):
+            for k, coefficient in d.items():
+                res_x[j, ..., form, k] = coefficient * pw[..., k]
         for k, coefficient in rates.nrm_k.items():
             nrm_x[j, ..., k] = coefficient * pw[..., k]
         has_normal = has_normal or bool(rates.nrm_k or rates.nrm_other)
         tops[j] = branch.debye_temperature / T_row
         pres[j] = _prefactor(branch, T_row)
-        if np.ndim(branch.debye_temperature) == 0:  # one θ: the distinct limits are θ/T
+        if branch.curved:
+            zbs[j] = h * np.asarray(branch.zone_boundary_frequency) / (k_B * T_row)
+        scalar = np.ndim(branch.debye_temperature) == 0 and (
+            not branch.curved or np.ndim(branch.zone_boundary_frequency) == 0)
+        if scalar:  # one θ (and ν_zb): the distinct limits are θ/T
             u = np.minimum(branch.debye_temperature / T, X_CUT)
+            if curved:
+                u = np.stack([u, zbs[j, 0]], axis=1)
             g = np.broadcast_to(np.arange(T.size), shape).ravel()
+        elif curved:
+            u, g = _unique_pairs(np.minimum(tops[j], X_CUT).ravel(), zbs[j].ravel())
         else:
             u, g = np.unique(np.minimum(tops[j], X_CUT), return_inverse=True)
             g = g.ravel()
         uniq.append(u)
         grids.append(g + offset)
-        offset += u.size
+        offset += len(u)
         parts.append((ctx, rates, shape, k_B * T_row / hbar))
     nodes = None
     if any(rates.res_other or rates.nrm_other for _, rates, _, _ in parts):
         def nodes(xx, grid):
             return _node_rates(parts, xx, grid)
-    out = _integrals(tops.reshape(-1), res_x.reshape(-1, NPOW), nrm_x.reshape(-1, NPOW), nodes,
-                     (np.concatenate(uniq), np.concatenate(grids)))
+    index = (np.concatenate(uniq), np.concatenate(grids))
+    if curved:
+        out = _integrals_curved(tops.reshape(-1), zbs.reshape(-1), res_x.reshape(-1, 2, NPOW),
+                                nrm_x.reshape(-1, NPOW), nodes, index)
+    else:
+        out = _integrals(tops.reshape(-1), res_x.reshape(-1, NPOW), nrm_x.reshape(-1, NPOW),
+                         nodes, index)
     ints = out[:, 0] if not has_normal else _normal_correction(out[:, 0], out[:, 1], out[:, 2])
     k = pres * ints.reshape(nB, *shape)
     if not np.all(np.isfinite(k)):
@@ -390,6 +484,8 @@ def conductivity(model: Model, temperature, *, exclude: Sequence[str] = (),
     mechanisms = batch_map(model.mechanisms, flat)
     nodes = any(not m.polynomial for m in mechanisms.active)
     per_call = _SAMPLES_NODES if nodes else _SAMPLES_POLY
+    if any(b.curved for b in material.branches):
+        per_call = min(per_call, _SAMPLES_CURVED)
     c_max = max(1, min(P, per_call // max(1, nB * T.size)))
     out = np.empty((nB, P, T.size))
     for a0 in range(0, P, c_max):
@@ -516,6 +612,8 @@ class BranchState:
         (n_j/3) k_B/(2π² v_j)(k_B T/ħ)³ [W/(m K s)].
     velocity : float
         Sound velocity v_j [m/s].
+    x_zb : float
+        ħω_zb/(k_BT) of a sine branch [1]; inf for a Debye branch.
     """
 
     label: str
@@ -527,11 +625,25 @@ class BranchState:
     _rates: _Rates
     _res_x: np.ndarray
     _nrm_x: np.ndarray
+    x_zb: float = math.inf
+    _shaped_x: np.ndarray | None = None  # (1, 5): the × g p^k part on a curved branch
 
     @property
     def wt(self) -> float:
         """k_B T/ħ [rad/s]: ω = x·wt."""
         return k_B * self.temperature / hbar
+
+    @property
+    def curved(self) -> bool:
+        """True for a branch with a dispersion."""
+        return math.isfinite(self.x_zb)
+
+    def factors(self, x) -> tuple[np.ndarray, np.ndarray]:
+        """(g, p) = (v_g/v, qv/ω) at reduced frequencies x (1 and 1 on a Debye branch)."""
+        x = np.asarray(x, dtype=float)
+        if not self.curved:
+            return np.ones(x.shape), np.ones(x.shape)
+        return sine_factors(x / self.x_zb)
 
     def _nonpoly(self, mechanisms, x) -> np.ndarray:
         omega = np.asarray(x, dtype=float)[None, :] * self.wt
@@ -543,7 +655,11 @@ class BranchState:
     def resistive(self, x) -> np.ndarray:
         """τ_R⁻¹ at reduced frequencies x [1/s]."""
         x = np.asarray(x, dtype=float)
-        return _poly(self._res_x, x) + self._nonpoly(self._rates.res_other, x)
+        out = _poly(self._res_x, x) + self._nonpoly(self._rates.res_other, x)
+        if self._shaped_x is not None:
+            g, p = self.factors(x)
+            out = out + g * _poly(self._shaped_x[0], x * p)
+        return out
 
     def normal(self, x) -> np.ndarray:
         """τ_N⁻¹ at reduced frequencies x [1/s]."""
@@ -571,6 +687,10 @@ class BranchState:
                 rl = np.broadcast_to(self._rates.dense("res_low")[0] * pw, (n, NPOW))
                 nl = np.broadcast_to(self._rates.dense("nrm_low")[0] * pw, (n, NPOW))
                 return rn, nn, rl, nl
+        if self.curved:
+            res = np.concatenate([self._res_x[None, :], self._shaped_x], axis=0)
+            return _integrals_curved(tops, np.full(n, self.x_zb), res[None], self._nrm_x[None, :],
+                                     nodes)
         return _integrals(tops, self._res_x[None, :], self._nrm_x[None, :], nodes)
 
     def kappa(self) -> tuple[float, float]:
@@ -580,23 +700,36 @@ class BranchState:
         return float(self.prefactor * _normal_correction(i1, i2, i3)), float(beta)
 
     def relaxation_time(self, x, beta: float) -> np.ndarray:
-        """Callaway's effective relaxation time τ_eff = τ_c(1 + β/τ_N) at x [s].
+        """Callaway's effective relaxation time τ_eff = τ_c(1 + β (p/g)/τ_N) at x [s].
 
-        With β = I₂/I₃ the spectral parts pre·∫τ_eff w dx add up to κ_j exactly (the
-        normal-process correction I₂²/I₃ shared out over the phonons); τ_eff = τ_c = τ_R
-        without normal processes.
+        With β = I₂/I₃ the spectral parts pre·∫F₁τ_eff w dx add up to κ_j exactly (the
+        normal-process correction I₂²/I₃ shared out over the phonons); on a Debye branch
+        p = g = 1, and τ_eff = τ_c = τ_R without normal processes. On a sine branch τ_eff
+        grows without bound at the zone boundary (v_g → 0) while v_g τ_eff stays finite.
         """
         rr, rn = self.resistive(x), self.normal(x)
-        return (1.0 + beta * rn) / (rr + rn)
+        if not self.curved:
+            return (1.0 + beta * rn) / (rr + rn)
+        g, p = self.factors(x)
+        with np.errstate(divide="ignore"):
+            return (1.0 + beta * rn * p / g) / (rr + rn)
 
     def mean_free_path(self, x, beta: float) -> np.ndarray:
-        """Λ = v_j τ_eff at x [m]."""
-        return self.velocity * self.relaxation_time(x, beta)
+        """Λ = v_g τ_eff at x [m] (v_g = v on a Debye branch)."""
+        rr, rn = self.resistive(x), self.normal(x)
+        if not self.curved:
+            return self.velocity * (1.0 + beta * rn) / (rr + rn)
+        g, p = self.factors(x)
+        return self.velocity * (g + beta * rn * p) / (rr + rn)
 
     def spectral(self, x, beta: float) -> np.ndarray:
-        """κ per unit reduced frequency, pre·w(x)·τ_eff [W/(m K)]."""
+        """κ per unit reduced frequency, pre·w(x)·(F₁τ_c + βF₂τ_c/τ_N) [W/(m K)]."""
         x = np.asarray(x, dtype=float)
-        return self.prefactor * _q.phonon_weight(x) * self.relaxation_time(x, beta)
+        rr, rn = self.resistive(x), self.normal(x)
+        if not self.curved:
+            return self.prefactor * _q.phonon_weight(x) * (1.0 + beta * rn) / (rr + rn)
+        g, p = self.factors(x)
+        return self.prefactor * _q.phonon_weight(x) * p * p * (g + beta * rn * p) / (rr + rn)
 
     def cumulative(self, x, beta: float) -> np.ndarray:
         """κ carried by the branch's phonons below x: pre·(I₁(x) + β I₂(x)) [W/(m K)]."""
@@ -626,7 +759,11 @@ def branch_states(model: Model, temperature: float) -> list[BranchState]:
         pw = _omega_powers(T)
         res_x = rates.dense("res")[0] * pw
         nrm_x = rates.dense("nrm")[0] * pw
+        x_zb, shaped = math.inf, None
+        if branch.curved:
+            x_zb = float(h * branch.zone_boundary_frequency / (k_B * T))
+            shaped = np.array([rates.dense("res_flux")[0] * pw])
         out.append(BranchState(label, T, float(min(branch.debye_temperature / T, X_CUT)),
                                float(_prefactor(branch, T)), float(branch.sound_velocity),
-                               ctx, rates, res_x, nrm_x))
+                               ctx, rates, res_x, nrm_x, x_zb, shaped))
     return out

@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from kappa.core.constants import N_A, k_B
+from kappa.core.constants import N_A, h, k_B
+from kappa.core.dispersion import sine_debye_function
 from kappa.core.material import Material
 from kappa.core.quadrature import X_CUT, phonon_weight, rule
 
@@ -41,7 +42,9 @@ def heat_capacity(material: Material, T) -> np.ndarray:
     """Debye heat capacity of the acoustic branches per mole of atoms [J/(mol K)].
 
     C = 3R Σ_j (n_j/3) D(θ_j/T), with D the :func:`debye_function`; → 3R (Dulong–Petit) at
-    high T. Source: P. Debye, Ann. Phys. 39, 789 (1912).
+    high T. Source: P. Debye, Ann. Phys. 39, 789 (1912). A sine branch (``dispersion: sine``)
+    uses its own density of states instead of D, with the same N modes per branch
+    (:func:`kappa.core.dispersion.sine_debye_function`).
 
     Parameters
     ----------
@@ -52,5 +55,9 @@ def heat_capacity(material: Material, T) -> np.ndarray:
     T = np.atleast_1d(np.asarray(T, dtype=float))
     c = np.zeros_like(T)
     for b in material.branches:
-        c += b.count / 3.0 * debye_function(b.debye_temperature / T)
+        if b.curved:
+            c += b.count / 3.0 * sine_debye_function(
+                b.debye_temperature / T, h * np.asarray(b.zone_boundary_frequency) / (k_B * T))
+        else:
+            c += b.count / 3.0 * debye_function(b.debye_temperature / T)
     return 3.0 * k_B * N_A * c

@@ -18,10 +18,12 @@ import numpy as np
 from kappa.core.jit import jit, prange
 
 __all__ = ["callaway_integrals", "callaway_integrals_serial", "callaway_integrals_free",
-           "callaway_integrals_free_serial", "callaway_integrals_nodes"]
+           "callaway_integrals_free_serial", "callaway_integrals_nodes",
+           "callaway_integrals_curved"]
 
 # fastmath flags: reassociation lets the sums vectorise; no 'nnan'/'ninf' so that a NaN from bad
-# input would still show. cache: compiled once per machine, then loaded from the user's cache folder (core/jit.py).
+# input would still show. Compiled once per machine, then loaded from the user's cache folder
+# (core/jit.py decides where).
 # error_model="numpy": a division by zero gives inf/NaN (which the evaluator reports as an error
 # naming the input) instead of raising inside the compiled code.
 _FAST = {"reassoc", "contract", "arcp", "nsz"}
@@ -251,6 +253,61 @@ def callaway_integrals_nodes(x, wq, count, x_s, grid, res, nrm, res_nodes, nrm_n
             i2 += tc * rn
             i3 += tc * rn * rr
         i1, i2, i3 = _small_x(r_low, n_low, x_s[g], bt, bq, i1, i2, i3)
+        out[s, 0] = i1
+        out[s, 1] = i2
+        out[s, 2] = i3
+
+
+@jit(fastmath=_FAST, error_model=_NP)
+def _shaped(c, x, g, p):  # pragma: no cover - compiled
+    """Σ_k c_k x^k g p^k: a polynomial rate carried over to a curved branch as v_g × σ(q)."""
+    xp = x * p
+    return g * (c[0] + xp * (c[1] + xp * (c[2] + xp * (c[3] + xp * c[4]))))
+
+
+@jit(parallel=True, fastmath=_FAST, error_model=_NP)
+def callaway_integrals_curved(x, wq, gp, count, x_s, grid, res, nrm, res_nodes, nrm_nodes,
+                              res_low, nrm_low, has_nodes, bt, bq, out):  # pragma: no cover
+    """As :func:`callaway_integrals_nodes`, for branches with a dispersion.
+
+    x : (G, M) nodes; wq : (G, 3, M) weights of I₁, I₂, I₃ (quadrature weight × w(x) × F₁,
+    F₂, F₃ of :mod:`kappa.core.dispersion`); gp : (G, 2, M) g = v_g/v and p = qv/ω at the
+    nodes; res : (S, 2, 5) resistive coefficients of x^k used as written and as v_g × σ(q)
+    (× g p^k); nrm : (S, 5); res_nodes, nrm_nodes : (S, M) non-polynomial parts (read only when
+    ``has_nodes``); res_low, nrm_low : (S, 5) the total rates' polynomial limit as x → 0, used
+    below the rule (where g = p = 1).
+    """
+    n_samples = grid.shape[0]
+    for s in prange(n_samples):
+        gi = grid[s]
+        r = res[s]
+        nn = nrm[s]
+        r_low = res_low[s]
+        n_low = nrm_low[s]
+        if not (r_low[0] > 0.0 or r_low[1] > 0.0 or r_low[2] > 0.0):  # diverges at x → 0
+            out[s, 0] = np.inf
+            out[s, 1] = np.nan
+            out[s, 2] = np.nan
+            continue
+        flux = (r[1, 0] != 0.0 or r[1, 1] != 0.0 or r[1, 2] != 0.0 or r[1, 3] != 0.0
+                or r[1, 4] != 0.0)
+        i1 = 0.0
+        i2 = 0.0
+        i3 = 0.0
+        for i in range(count[gi]):
+            xi = x[gi, i]
+            rr = _poly(r[0], xi)
+            if flux:
+                rr += _shaped(r[1], xi, gp[gi, 0, i], gp[gi, 1, i])
+            rn = _poly(nn, xi)
+            if has_nodes:
+                rr += res_nodes[s, i]
+                rn += nrm_nodes[s, i]
+            tc = 1.0 / (rr + rn)
+            i1 += wq[gi, 0, i] * tc
+            i2 += wq[gi, 1, i] * tc * rn
+            i3 += wq[gi, 2, i] * tc * rn * rr
+        i1, i2, i3 = _small_x(r_low, n_low, x_s[gi], bt, bq, i1, i2, i3)
         out[s, 0] = i1
         out[s, 1] = i2
         out[s, 2] = i3

@@ -19,7 +19,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from kappa.core.constants import hbar, k_B, u
+from kappa.core.constants import h, hbar, k_B, u
+from kappa.core.dispersion import DISPERSIONS, SINE_CITATION, zone_boundary_from_velocity
 from kappa.core.parameters import Parameter
 from kappa.errors import ConfigError
 
@@ -36,6 +37,7 @@ __all__ = [
     "AlloySpec",
     "POLARIZATIONS",
     "acoustic_debye_temperature",
+    "DISPERSIONS",
     "debye_temperature_from_velocity",
     "mean_sound_velocity",
     "resolve_material",
@@ -134,6 +136,11 @@ BRANCH_PARAMETERS: dict[str, Parameter] = {
     "debye_temperature": MATERIAL_PARAMETERS["debye_temperature"],
     "sound_velocity": MATERIAL_PARAMETERS["sound_velocity"],
     "gruneisen": MATERIAL_PARAMETERS["gruneisen"],
+    "zone_boundary_frequency": _p(
+        "zone_boundary_frequency", "Hz", "zone-boundary frequency ν_zb of a sine branch "
+        "(ω_zb = 2πν_zb)", display="THz", scale=1e12, low=1e6, high=1e16, low_open=False,
+        typical=(0.1e12, 45e12), basis="phonon frequencies of solids: up to about 40 THz "
+        "(diamond)", title="zone-boundary frequency"),
 }
 
 
@@ -167,6 +174,11 @@ class Branch:
         Number of branches this entry stands for (3 averaged, 1 longitudinal, 2 transverse).
     polarization : str
         ``"average"``, ``"longitudinal"`` or ``"transverse"``.
+    dispersion : str
+        ``"debye"`` (ω = vq up to k_Bθ/ħ) or ``"sine"`` (ω = ω_zb sin(πq/(2q_zb)) with
+        dω/dq = v at q → 0, up to k_Bθ/ħ ≤ ω_zb); see :mod:`kappa.core.dispersion`.
+    zone_boundary_frequency : float or ndarray or None
+        ν_zb = ω_zb/2π [Hz] of a sine branch (None for a Debye branch).
     """
 
     debye_temperature: float
@@ -174,6 +186,8 @@ class Branch:
     gruneisen: float
     count: float = 3.0
     polarization: str = "average"
+    dispersion: str = "debye"
+    zone_boundary_frequency: float | None = None
 
     def __post_init__(self) -> None:
         self.validate("branch")
@@ -184,6 +198,13 @@ class Branch:
         if self.polarization not in POLARIZATIONS:
             raise ConfigError(f"{prefix}.polarization", self.polarization,
                               "allowed: " + ", ".join(POLARIZATIONS))
+        _check_dispersion(prefix, self.dispersion, self.debye_temperature,
+                          self.zone_boundary_frequency)
+
+    @property
+    def curved(self) -> bool:
+        """True unless the branch is Debye-linear."""
+        return self.dispersion != "debye"
 
 
 @dataclass(frozen=True)
@@ -259,6 +280,10 @@ class Material:
         """True when the cell has more than one atom (an optical part is added to κ_L)."""
         return bool(np.any(np.asarray(self.atoms_per_cell) > 1.0))
 
+    def citations(self) -> list[str]:
+        """Citations of the branch models beyond Debye's (the sine dispersion, if used)."""
+        return [SINE_CITATION] if any(b.curved for b in self.branches) else []
+
     def branch_labels(self) -> tuple[str, ...]:
         """``("average",)`` or ``("longitudinal", "transverse", ...)`` (numbered if repeated)."""
         if not self.per_branch:
@@ -276,13 +301,16 @@ class Material:
 
 @dataclass(frozen=True)
 class BranchSpec:
-    """One branch as given: ``debye_temperature`` may be None (derived from the velocity)."""
+    """One branch as given: ``debye_temperature`` may be None (derived from the velocity, or
+    from ``zone_boundary_frequency`` on a sine branch)."""
 
     polarization: str
     sound_velocity: float
     gruneisen: float
     count: float | None = None
     debye_temperature: float | None = None
+    dispersion: str = "debye"
+    zone_boundary_frequency: float | None = None
 
 
 @dataclass(frozen=True)
@@ -504,6 +532,19 @@ def _branch(b: BranchSpec, i: int, volume, derived: list[Derived], cells=1.0) ->
                           "allowed: longitudinal, transverse")
     count = b.count if b.count is not None else (1.0 if b.polarization == "longitudinal"
                                                  else 2.0)
+    if b.dispersion not in DISPERSIONS:
+        raise ConfigError(f"{key}.dispersion", b.dispersion, "allowed: " + ", ".join(DISPERSIONS))
+    if b.dispersion != "debye":
+        theta, nu = _sine_branch(b, key, volume, derived)
+        for name, value in (("sound_velocity", b.sound_velocity), ("gruneisen", b.gruneisen),
+                            ("count", count)):
+            BRANCH_PARAMETERS[name].check(f"{key}.{name}", value)
+        return Branch(theta, b.sound_velocity, b.gruneisen, count, b.polarization, b.dispersion,
+                      nu)
+    if b.zone_boundary_frequency is not None:
+        raise ConfigError(f"{key}.zone_boundary_frequency", "given",
+                          f"only a sine branch has one; add '{key}.dispersion: sine' or remove "
+                          "the key")
     if b.debye_temperature is not None:
         theta = b.debye_temperature
     else:
@@ -518,3 +559,59 @@ def _branch(b: BranchSpec, i: int, volume, derived: list[Derived], cells=1.0) ->
                         ("count", count), ("debye_temperature", theta)):
         BRANCH_PARAMETERS[name].check(f"{key}.{name}", value)
     return Branch(theta, b.sound_velocity, b.gruneisen, count, b.polarization)
+
+
+def _sine_branch(b: BranchSpec, key: str, volume, derived: list[Derived]):
+    """θ and ν_zb of a sine branch: each from the other when only one is given (the branch
+    ends at its zone boundary, k_Bθ = hν_zb), both from the velocity when neither is (zone
+    boundary at the Debye wavevector (6π²/V₀)^(1/3), ω_zb = 2vq_D/π)."""
+    theta, nu = b.debye_temperature, b.zone_boundary_frequency
+    if nu is not None:
+        BRANCH_PARAMETERS["zone_boundary_frequency"].check(f"{key}.zone_boundary_frequency", nu)
+    if theta is not None:
+        BRANCH_PARAMETERS["debye_temperature"].check(f"{key}.debye_temperature", theta)
+    if theta is None and nu is None:
+        BRANCH_PARAMETERS["sound_velocity"].check(f"{key}.sound_velocity", b.sound_velocity)
+        nu = _float(zone_boundary_from_velocity(b.sound_velocity, volume))
+        derived.append(Derived(f"{key}.zone_boundary_frequency", nu, "THz",
+                               "zone boundary of the sine at the Debye wavevector "
+                               "(6π²/V₀)^(1/3): ω_zb = 2vq_D/π"))
+    if nu is None:
+        nu = _float(k_B * np.asarray(theta) / h)
+        derived.append(Derived(f"{key}.zone_boundary_frequency", nu, "THz",
+                               "k_Bθ/h: the sine branch ends at its zone boundary"))
+    if theta is None:
+        theta = _float(h * np.asarray(nu) / k_B)
+        derived.append(Derived(f"{key}.debye_temperature", theta, "K",
+                               "hν_zb/k_B: the sine branch ends at its zone boundary"))
+    _check_dispersion(key, b.dispersion, theta, nu)
+    return theta, nu
+
+
+def _check_dispersion(prefix: str, dispersion: str, theta, nu) -> None:
+    """A sine branch needs k_Bθ ≤ hν_zb: it cannot rise above its zone-boundary frequency."""
+    if dispersion not in DISPERSIONS:
+        raise ConfigError(f"{prefix}.dispersion", dispersion,
+                          "allowed: " + ", ".join(DISPERSIONS))
+    if dispersion == "debye":
+        if nu is not None:
+            raise ConfigError(f"{prefix}.zone_boundary_frequency", "given",
+                              "only a sine branch has one (dispersion: sine)")
+        return
+    if nu is None:
+        raise ConfigError(f"{prefix}.zone_boundary_frequency", allowed="missing; a sine "
+                          "branch needs its zone-boundary frequency")
+    BRANCH_PARAMETERS["zone_boundary_frequency"].check(f"{prefix}.zone_boundary_frequency", nu)
+    nu_a, theta_a = np.broadcast_arrays(np.asarray(nu, dtype=float),
+                                        np.asarray(theta, dtype=float))
+    top = k_B * theta_a / h
+    bad = ~(nu_a >= top * (1.0 - 1e-9))
+    if np.any(bad):
+        i = int(np.argmax(bad.ravel()))
+        nu_bad, top_bad = float(nu_a.ravel()[i]), float(top.ravel()[i])
+        theta_bad = float(theta_a.ravel()[i])
+        raise ConfigError(f"{prefix}.zone_boundary_frequency", f"{nu_bad / 1e12:.6g} THz",
+                          f"must be at least k_Bθ/h = {top_bad / 1e12:.6g} THz, the top of the "
+                          f"branch set by {prefix}.debye_temperature = {theta_bad:.6g} K (a "
+                          "sine branch cannot rise above its zone-boundary frequency); raise "
+                          "it, or give only one of the two")

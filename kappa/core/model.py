@@ -111,7 +111,8 @@ class Model:
             from kappa.core.material import BranchSpec
 
             branches = tuple(BranchSpec(b.polarization, b.sound_velocity, b.gruneisen, b.count,
-                                        b.debye_temperature) for b in material.branches)
+                                        b.debye_temperature, b.dispersion,
+                                        b.zone_boundary_frequency) for b in material.branches)
             spec = MaterialSpec(material.name, atomic_mass=material.atomic_mass,
                                 atomic_volume=material.atomic_volume, branches=branches)
         else:
@@ -156,7 +157,9 @@ class Model:
         if head == "material" and len(parts) == 4 and parts[1] == "branches":
             if parts[3] in BRANCH_PARAMETERS:
                 return BRANCH_PARAMETERS[parts[3]]
-            raise _suggest(parts[3], [*BRANCH_PARAMETERS, "polarization"], key)
+            if parts[3] in ("polarization", "dispersion"):
+                raise ConfigError(key, allowed="not a numeric key")
+            raise _suggest(parts[3], [*BRANCH_PARAMETERS, "polarization", "dispersion"], key)
         if head == "scattering" and len(parts) == 3:
             if parts[1] not in REGISTRY:
                 raise _suggest(parts[1], list(REGISTRY), ".".join(parts[:2]))
@@ -183,9 +186,12 @@ class Model:
         else:
             out["material.atomic_volume"] = MATERIAL_PARAMETERS["atomic_volume"]
         if s.branches is not None:
-            for i in range(len(s.branches)):
+            for i, b in enumerate(s.branches):
                 for k in ("debye_temperature", "sound_velocity", "gruneisen"):
                     out[f"material.branches.{i}.{k}"] = BRANCH_PARAMETERS[k]
+                if b.dispersion != "debye":
+                    out[f"material.branches.{i}.zone_boundary_frequency"] = \
+                        BRANCH_PARAMETERS["zone_boundary_frequency"]
         else:
             out["material.debye_temperature"] = MATERIAL_PARAMETERS["debye_temperature"]
             if s.longitudinal_velocity is not None:
@@ -228,6 +234,10 @@ class Model:
         if parts[1] == "branches":
             if s.branches is None:
                 return "this is an averaged-branch model (no material.branches)"
+            if parts[-1] == "zone_boundary_frequency" and parts[2].isdigit() \
+                    and int(parts[2]) < len(s.branches):
+                return (f"only a sine branch has a zone-boundary frequency (add "
+                        f"material.branches.{parts[2]}.dispersion: sine)")
             return (f"there is no branch {parts[2]}; this model has branches 0 to "
                     f"{len(s.branches) - 1}")
         if parts[1] in _AVERAGED and s.branches is not None:
@@ -244,7 +254,7 @@ class Model:
         """Why a numeric key has no effect in this model (None if it has one)."""
         parts = split_key(key)
         if parts[0] == "scattering" and len(parts) == 3:
-            mech = self.scattering.get(parts[1])
+            mech = self.mechanisms.get(parts[1])  # resolved: knows what the material gives
             if mech is not None:
                 return mech.unused(parts[2])
         return None
@@ -283,7 +293,7 @@ class Model:
             if v is None:
                 raise ConfigError(key, allowed=self._why_not(key))
             return v
-        mech = self.scattering.get(parts[1])
+        mech = self.mechanisms.get(parts[1])  # resolved: values derived from the material
         if mech is None:
             d = REGISTRY[parts[1]].parameter(parts[2]).default
             return float(d) if isinstance(d, (int, float)) else float("nan")

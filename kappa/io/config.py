@@ -7,7 +7,8 @@ every key)::
                   atomic_volume or density, optionally atoms_per_cell, and either
                   debye_temperature / sound_velocity (or longitudinal_velocity +
                   transverse_velocity) / gruneisen, or branches: [{polarization, count,
-                  debye_temperature, sound_velocity, gruneisen}, ...]
+                  debye_temperature, sound_velocity, gruneisen, dispersion: debye|sine,
+                  zone_boundary_frequency}, ...]
     scattering:   one section per mechanism of the registry (kappa.core.mechanisms)
     temperature:  {start, stop, points, spacing: linear|log} or {values: [...]}
 
@@ -34,6 +35,7 @@ from kappa.core.material import (
     ALLOY_PARAMETERS,
     BRANCH_PARAMETERS,
     DERIVED_UNITS,
+    DISPERSIONS,
     MATERIAL_PARAMETERS,
     AlloySpec,
     BranchSpec,
@@ -65,7 +67,7 @@ TOP_KEYS = ("material", "scattering", "temperature", "notes")
 _TEXT_MATERIAL = ("name", "composition", "branches", "alloy")
 _MATERIAL_ALL = ("name", "composition", *MATERIAL_PARAMETERS, "branches", "alloy")
 _ALLOY_ALL = ("end_members", *ALLOY_PARAMETERS)
-_BRANCH_ALL = ("polarization", *BRANCH_PARAMETERS)
+_BRANCH_ALL = ("polarization", "dispersion", *BRANCH_PARAMETERS)
 _TEMPERATURE_ALL = ("start", "stop", "points", "spacing", "values")
 _RANGE_KEYS = ("start", "stop", "points", "spacing")
 
@@ -403,7 +405,11 @@ def _branches(value: Any) -> tuple[BranchSpec, ...]:
                                   "sound_velocity and gruneisen (debye_temperature optional)")
         numbers = {name: parse_value(p, sec[name], f"{key}.{name}")
                    for name, p in BRANCH_PARAMETERS.items() if name in sec}
-        out.append(BranchSpec(pol, **numbers))
+        dispersion = sec.get("dispersion", "debye")
+        if dispersion not in DISPERSIONS:
+            raise ConfigError(f"{key}.dispersion", dispersion,
+                              "allowed: " + ", ".join(DISPERSIONS))
+        out.append(BranchSpec(pol, dispersion=dispersion, **numbers))
     return tuple(out)
 
 

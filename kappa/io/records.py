@@ -202,7 +202,7 @@ def model_summary(model) -> dict:
             "atomic_mass [kg]": m.atomic_mass,
             "atomic_volume [m^3]": m.atomic_volume,
             "branches": [{f"{k} [{u}]" if u else k: v for (k, v), u in zip(
-                asdict(b).items(), ("K", "m/s", "1", "1", ""), strict=True)}
+                asdict(b).items(), ("K", "m/s", "1", "1", "", "", "Hz"), strict=True)}
                 for b in m.branches],
         },
         "scattering": {mech.key: {(f"{p.name} [{p.unit}]" if p.unit else p.name):

@@ -128,7 +128,8 @@ def predict(model: Model, temperature, *, switch_off: bool = True,
     if warnings:
         for message in result_warnings(kappa, T):
             warn(message, stacklevel=2)
-    cites = [CALLAWAY_CITATION, *model.mechanisms.citations(), DEBYE_CITATION]
+    cites = [CALLAWAY_CITATION, *model.material.citations(), *model.mechanisms.citations(),
+             DEBYE_CITATION]
     if optical is not None:
         cites.append(OPTICAL_CITATION)
     cites += [c for d in model.derived if d.key.startswith("scattering.point_defect")

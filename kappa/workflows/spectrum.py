@@ -54,6 +54,7 @@ _CLOSURE = 1e-6  #: required agreement of the mean-free-path cumulative with κ_
 _GRID = 1200  #: samples of Λ(x) per branch (log-spaced)
 _LAM_SLACK = 1e-13  #: Λ(x) within this relative distance of Λ counts as "≤ Λ" (constant Λ(x))
 _BISECT = 52  #: bisection steps in ln x for an interval end (from one grid cell)
+_FLAT = 1e-12  #: relative steps of Λ(x) below this are rounding, not a rise or fall
 
 
 @dataclass(frozen=True)
@@ -72,11 +73,19 @@ class _Branch:
         lo = state.x_top * EPS_LOW * 1e-8
         x = np.geomspace(lo, state.x_top, _GRID)
         lam = state.mean_free_path(x, beta)
-        d = np.sign(np.diff(lam))
-        turns = [i for i in range(1, d.size) if d[i] != 0 and d[i - 1] != 0 and d[i] != d[i - 1]]
+        diff = np.diff(lam)
+        # steps within rounding of a plateau count as flat, not as turns
+        d = np.sign(np.where(np.abs(diff) <= _FLAT * np.abs(lam[1:]), 0.0, diff))
+        turns, last, last_i = [], 0.0, 0
+        for i in range(d.size):
+            if d[i] == 0:
+                continue
+            if last != 0 and d[i] != last:
+                turns.append((last_i, i, last > 0))
+            last, last_i = d[i], i
         xs = [x[0]]
-        for i in turns:  # refine each extremum by golden-section search in ln x
-            xs.append(_extremum(state, beta, x[i - 1], x[i + 1], maximum=d[i - 1] > 0))
+        for a, i, maximum in turns:  # refine each extremum by golden-section search in ln x
+            xs.append(_extremum(state, beta, x[a], x[i + 1], maximum=maximum))
         xs.append(x[-1])
         pieces = []
         for a, b in zip(xs[:-1], xs[1:], strict=True):
@@ -89,6 +98,7 @@ class _Branch:
     @property
     def span(self) -> tuple[float, float]:
         lams = np.concatenate([p[1] for p in self.pieces])
+        lams = lams[lams > 0]  # v_g = 0 at a sine branch's zone boundary: Λ = 0, no heat
         return float(lams.min()), float(lams.max())
 
     def intervals(self, lams: np.ndarray) -> list[tuple[np.ndarray, np.ndarray]]:
@@ -331,7 +341,7 @@ def spectrum(model: Model, temperature, *, points: int = SPECTRUM_POINTS,
         all_mfp.append(tuple(built))
     mfp50 = np.array([_fraction_mfp(b, 0.5) for b in all_mfp])
     mfp80 = np.array([_fraction_mfp(b, 0.8) for b in all_mfp])
-    cites = [CALLAWAY_CITATION, *model.mechanisms.citations()]
+    cites = [CALLAWAY_CITATION, *model.material.citations(), *model.mechanisms.citations()]
     return Spectrum(T, labels, freq, spec, cum, mfp, rates, branch_kappa.sum(axis=1),
                     branch_kappa, beta, tuple(nodes), tuple(accs), mfp50, mfp80, model, cites,
                     tuple(all_mfp))

@@ -228,5 +228,5 @@ def sweep(model: Model, axes: Mapping[str, object] | Sequence[Axis], temperature
         reference = conductivity(model, T)
     except DivergenceError:
         reference = np.full(T.shape, np.nan)
-    cites = [CALLAWAY_CITATION, *full.mechanisms.citations()]
+    cites = [CALLAWAY_CITATION, *full.material.citations(), *full.mechanisms.citations()]
     return SweepResult(axes, T, kappa, reference, model, cites)

@@ -7,14 +7,18 @@ check``, figure labels — reads the class's declarations.
 
 from __future__ import annotations
 
-from kappa.core.mechanisms.base import NPOW, Mechanism, RateContext, per_node
-from kappa.core.mechanisms.boundary import Boundary, boundary_rate
+from kappa.core.mechanisms.base import NPOW, VELOCITY_FORMS, Mechanism, RateContext, per_node
+from kappa.core.mechanisms.boundary import Boundary, boundary_rate, rough_boundary_rate
+from kappa.core.mechanisms.dislocation import Dislocation
+from kappa.core.mechanisms.four_phonon import FourPhonon
 from kappa.core.mechanisms.normal import Normal, normal_branch_coefficient
 from kappa.core.mechanisms.point_defect import PointDefect, point_defect_coefficient
+from kappa.core.mechanisms.precipitate import Precipitate, precipitate_cross_section
 from kappa.core.mechanisms.umklapp import Umklapp, umklapp_coefficient
 
 __all__ = [
     "NPOW",
+    "VELOCITY_FORMS",
     "REGISTRY",
     "Mechanism",
     "RateContext",
@@ -23,8 +27,13 @@ __all__ = [
     "Boundary",
     "PointDefect",
     "Normal",
+    "FourPhonon",
+    "Precipitate",
+    "Dislocation",
     "umklapp_coefficient",
     "boundary_rate",
+    "rough_boundary_rate",
+    "precipitate_cross_section",
     "point_defect_coefficient",
     "normal_branch_coefficient",
 ]
@@ -33,8 +42,11 @@ __all__ = [
 REGISTRY: dict[str, type[Mechanism]] = {
     cls.key: cls for cls in (
         Umklapp,
+        FourPhonon,
         Boundary,
         PointDefect,
+        Precipitate,
+        Dislocation,
         Normal,
     )
 }

@@ -11,6 +11,13 @@ needs: the config key, a human title, the citation, whether it is resistive, and
   the quadrature nodes, and :meth:`Mechanism.low_frequency` gives its polynomial limit as
   ω → 0 (used below the rule's lowest node and to check that κ_L converges).
 
+On a branch with a dispersion (``dispersion: sine``) the class attribute ``velocity`` says how a
+polynomial rate written for a Debye branch carries over (see :mod:`kappa.core.dispersion`):
+``"sound"`` as written (the branch's sound velocity is a constant of the form) or ``"flux"``
+(τ⁻¹ = v_g × density × cross-section(q): c_k ω^k → c_k ω^k g p^k, with g = v_g/v and
+p = qv/ω). A rate that is not a polynomial uses :meth:`RateContext.group_velocity` and
+:meth:`RateContext.wavevector`.
+
 Nothing else in kappa special-cases a mechanism: the config loader, ``--set``, fits, sweeps,
 spectra, ``kappa check`` and the figures read these declarations.
 """
@@ -29,9 +36,10 @@ if TYPE_CHECKING:  # pragma: no cover
     from kappa.core.material import Branch, Derived, Material, MaterialSpec
     from kappa.core.scattering import Scattering
 
-__all__ = ["Mechanism", "RateContext", "NPOW", "per_node"]
+__all__ = ["Mechanism", "RateContext", "NPOW", "per_node", "VELOCITY_FORMS"]
 
 NPOW = 5  #: polynomial rates have powers ω⁰ … ω⁴
+VELOCITY_FORMS = ("sound", "flux")  #: how a rate carries over to a curved branch
 
 
 @dataclass(frozen=True)
@@ -51,6 +59,27 @@ class RateContext:
     scattering: Scattering
     shape: tuple[int, ...]
 
+    def dispersion_factors(self, omega) -> tuple[np.ndarray, np.ndarray]:
+        """(g, p) = (v_g/v, qv/ω) of the branch at angular frequencies ``omega`` [rad/s]
+        (shape ``ctx.shape + (M,)``; the floats 1 and 1 on a Debye branch)."""
+        omega = np.asarray(omega, dtype=float)
+        if not self.branch.curved:
+            return 1.0, 1.0
+        from kappa.core.dispersion import sine_factors
+
+        omega_zb = 2.0 * np.pi * per_node(self.branch.zone_boundary_frequency)
+        return sine_factors(omega / omega_zb)
+
+    def group_velocity(self, omega) -> np.ndarray:
+        """v_g(ω) [m/s] of the branch (v on a Debye branch), shape of ``omega``."""
+        g, _ = self.dispersion_factors(omega)
+        return per_node(self.branch.sound_velocity) * g
+
+    def wavevector(self, omega) -> np.ndarray:
+        """q(ω) [1/m] of the branch (ω/v on a Debye branch), shape of ``omega``."""
+        _, p = self.dispersion_factors(omega)
+        return np.asarray(omega, dtype=float) * p / per_node(self.branch.sound_velocity)
+
 
 class Mechanism:
     """Base of the scattering mechanisms (subclasses are frozen dataclasses).
@@ -66,7 +95,14 @@ class Mechanism:
     resistive : bool
         False only for momentum-conserving (normal) processes.
     polynomial : bool
-        True when :meth:`coefficients` gives the rate; False for :meth:`rate` on nodes.
+        True when :meth:`coefficients` gives the rate; False for :meth:`rate` on nodes (a
+        subclass may make it a property of the instance, e.g. on one of its parameters).
+    velocity : str
+        How a polynomial rate carries over to a curved branch: ``"sound"`` or ``"flux"``
+        (module notes).
+    exclusive : tuple of tuple of str
+        Groups of parameters that are alternatives (e.g. a volume fraction or a number
+        density): at most one of each group may be non-zero.
     parameters : tuple of Parameter
         One declaration per field, in field order.
     """
@@ -76,6 +112,8 @@ class Mechanism:
     citation: ClassVar[str]
     resistive: ClassVar[bool] = True
     polynomial: ClassVar[bool] = True
+    velocity: ClassVar[str] = "sound"
+    exclusive: ClassVar[tuple[tuple[str, ...], ...]] = ()
     parameters: ClassVar[tuple[Parameter, ...]]
 
     def __post_init__(self) -> None:
@@ -86,6 +124,14 @@ class Mechanism:
                                   allowed=f"missing; {p.description} is required when "
                                   f"scattering.{self.key} is given")
             p.check(f"scattering.{self.key}.{p.name}", value)
+        for group in self.exclusive:
+            given = [np.asarray(getattr(self, name), dtype=float) != 0 for name in group]
+            if np.any(np.sum(np.broadcast_arrays(*given), axis=0) > 1):
+                names = [n for n, g in zip(group, given, strict=True) if np.any(g)]
+                raise ConfigError(f"scattering.{self.key}.{names[-1]}", "given",
+                                  "give only one of " + ", ".join(
+                                      f"scattering.{self.key}.{n}" for n in group) +
+                                  " (they are alternatives)")
 
     @classmethod
     def parameter(cls, name: str) -> Parameter:
@@ -124,11 +170,18 @@ class Mechanism:
         """τ⁻¹ [1/s] at angular frequencies ``omega`` [rad/s].
 
         ``omega`` has shape ``ctx.shape + (M,)``; the result has the same shape. The default
-        evaluates the polynomial of :meth:`coefficients`.
+        evaluates the polynomial of :meth:`coefficients`, carried over to a curved branch as
+        ``velocity`` says.
         """
         out = np.zeros(np.broadcast_shapes(ctx.shape + (1,), np.shape(omega)))
+        form = self.velocity if ctx.branch.curved else "sound"
+        if form != "sound":
+            g, p = ctx.dispersion_factors(omega)
         for k, c in self.coefficients(ctx).items():
-            out = out + np.asarray(c)[..., None] * omega**k
+            term = np.asarray(c)[..., None] * omega**k
+            if form == "flux":
+                term = term * g * p**k
+            out = out + term
         return out
 
     def low_frequency(self, ctx: RateContext) -> dict[int, np.ndarray]:

@@ -39,6 +39,11 @@ class PointDefect(Mechanism):
     ``material.alloy``), site-weighted, with Γ_S = 0; ``composition`` derives Γ_M from the
     isotopes and the alloy disorder (vacancies included) and Γ_S with the strain parameter ε
     from covalent radii (:mod:`kappa.core.disorder`). Derived values are recorded.
+
+    On a curved branch the rate keeps this form (``velocity = "sound"``): V₀/(4πv³) is the
+    Debye density of states of the branch. With the density of states of an isotropic sine
+    branch, ∝ q²/v_g, the rate would diverge at the zone boundary — a van Hove singularity that
+    a real crystal spreads over its zone — so kappa does not use it there.
     """
 
     mass_variance: float = 0.0
