@@ -10,8 +10,9 @@ Models of the Lorenz number
     Sommerfeld value L0 = (pi^2/3)(k_B/e)^2 = 2.443e-8 W Ohm K^-2 (metals, heavily degenerate
     semiconductors).
 ``nondegenerate``
-    2 (k_B/e)^2 = 1.485e-8 W Ohm K^-2, the non-degenerate limit of a single parabolic band with
-    acoustic-phonon scattering.
+    (2 + lambda)(k_B/e)^2, the non-degenerate limit (eta -> -inf) of a single parabolic band with
+    tau proportional to E^(lambda - 1/2): 2 (k_B/e)^2 = 1.485e-8 W Ohm K^-2 for acoustic phonons
+    (lambda = 0), 4 (k_B/e)^2 = 2.970e-8 for ionized impurities (lambda = 2).
 ``spb``
     Single parabolic band (SPB) with a relaxation time tau proportional to E^(lambda - 1/2);
     the scattering exponent lambda is 0 for acoustic phonons (the default), 1 for polar optical
@@ -29,6 +30,10 @@ Models of the Lorenz number
     result for acoustic scattering as its authors state.
 a number
     A user constant in W Ohm K^-2.
+
+Each model is made for a regime: ``degenerate`` for metals and degenerate semiconductors
+(|S| below about 100 uV/K, :data:`DEGENERATE_SEEBECK_LIMIT`), ``kim`` for acoustic-phonon
+scattering (lambda = 0). :func:`lorenz_regime_warnings` says when a choice is used outside it.
 
 The electronic thermal conductivity is kappa_e = L sigma T (Wiedemann-Franz law).
 """
@@ -49,6 +54,9 @@ __all__ = [
     "LORENZ_DEGENERATE",
     "LORENZ_NONDEGENERATE",
     "LORENZ_MODELS",
+    "DEGENERATE_SEEBECK_LIMIT",
+    "lorenz_nondegenerate",
+    "lorenz_regime_warnings",
     "fermi_dirac_integral",
     "spb_seebeck",
     "spb_lorenz",
@@ -66,9 +74,14 @@ K_B_OVER_E: float = k_B / e
 #: Sommerfeld value (pi^2/3)(k_B/e)^2 [W Ohm K^-2]
 LORENZ_DEGENERATE: float = math.pi**2 / 3.0 * K_B_OVER_E**2
 #: Non-degenerate single-band value for acoustic phonon scattering, 2 (k_B/e)^2 [W Ohm K^-2]
+#: (other scattering exponents: :func:`lorenz_nondegenerate`)
 LORENZ_NONDEGENERATE: float = 2.0 * K_B_OVER_E**2
 #: The named Lorenz models (a number is also accepted where a model is asked for).
 LORENZ_MODELS: tuple[str, ...] = ("spb", "degenerate", "nondegenerate", "kim")
+#: |S| [V/K] above which the degenerate (Sommerfeld) Lorenz number is used outside its regime:
+#: at 100 uV/K the single parabolic band (acoustic phonons) gives L about 25 % below it
+#: (common practice, no single source).
+DEGENERATE_SEEBECK_LIMIT: float = 100e-6
 
 # --- Fermi-Dirac integrals -------------------------------------------------------------------
 #
@@ -379,6 +392,77 @@ def lorenz_kim(seebeck: ArrayLike) -> np.ndarray:
     return (1.5 + np.exp(-s / 116e-6)) * 1e-8
 
 
+def lorenz_nondegenerate(scattering_exponent: float = 0.0) -> float:
+    """Non-degenerate limit of the single-parabolic-band Lorenz number, (2 + lambda)(k_B/e)^2.
+
+    The limit of :func:`spb_lorenz` for eta -> -inf (Boltzmann statistics): with
+    F_j(eta) -> Gamma(j + 1) e^eta the bracket becomes (1+lambda)(3+lambda)Gamma(1+lambda)
+    Gamma(3+lambda) - (2+lambda)^2 Gamma(2+lambda)^2 over (1+lambda)^2 Gamma(1+lambda)^2,
+    which is 2 + lambda.
+
+    Parameters
+    ----------
+    scattering_exponent : float
+        lambda in tau proportional to E^(lambda - 1/2): 0 acoustic phonons (2 (k_B/e)^2),
+        1 polar optical (3 (k_B/e)^2), 2 ionized impurities (4 (k_B/e)^2).
+
+    Returns
+    -------
+    float
+        L [W Ohm K^-2].
+    """
+    lam = _check_exponent(scattering_exponent)
+    return (2.0 + lam) * K_B_OVER_E**2
+
+
+def lorenz_regime_warnings(model: str | float, seebeck: ArrayLike | None = None,
+                           scattering_exponent: float = 0.0) -> list[str]:
+    """Plain-words warnings when a Lorenz model is used outside the regime it was made for.
+
+    * ``kim`` with a scattering exponent other than 0: the approximation of Kim et al. was
+      fitted to the single parabolic band with acoustic-phonon scattering (lambda = 0) and does
+      not follow lambda;
+    * ``degenerate`` with |S| above :data:`DEGENERATE_SEEBECK_LIMIT`: the Sommerfeld value
+      holds for metals and degenerate semiconductors; at larger |S| the carriers are not
+      degenerate and L is smaller.
+
+    Parameters
+    ----------
+    model : str or float
+        The Lorenz model (see the module docstring) or a constant.
+    seebeck : array_like, optional
+        Seebeck coefficient [V/K] (sign ignored; NaN ignored).
+    scattering_exponent : float
+        lambda in tau proportional to E^(lambda - 1/2).
+
+    Returns
+    -------
+    list of str
+    """
+    out: list[str] = []
+    lam = float(scattering_exponent)
+    if model == "kim" and lam != 0.0:
+        out.append(f"the Lorenz model kim approximates the single parabolic band with "
+                   f"acoustic-phonon scattering (lambda = 0) and ignores the scattering exponent "
+                   f"lambda = {lam:g}; use spb to follow lambda")
+    if model == "degenerate" and seebeck is not None:
+        s = np.abs(np.asarray(seebeck, dtype=float))
+        s = s[np.isfinite(s)]
+        if s.size and float(s.max()) > DEGENERATE_SEEBECK_LIMIT:
+            top = float(s.max())
+            try:
+                spb = (f", where the single parabolic band gives "
+                       f"{float(lorenz_spb(top, lam)):.4g} W Ohm/K^2")
+            except DataError:  # |S| beyond any band solution: the unit check reports it
+                spb = ""
+            out.append(f"the degenerate Lorenz number (pi^2/3)(k_B/e)^2 = "
+                       f"{LORENZ_DEGENERATE:.4g} W Ohm/K^2 holds for metals and degenerate "
+                       f"semiconductors (|S| below about {DEGENERATE_SEEBECK_LIMIT * 1e6:.0f} "
+                       f"uV/K); |S| reaches {top * 1e6:.4g} uV/K here{spb}: kappa_e is "
+                       "overstated and kappa_L understated; consider spb or kim")
+    return out
+
+
 def lorenz_number(model: str | float, seebeck: ArrayLike | None = None,
                   scattering_exponent: float = 0.0) -> np.ndarray:
     """Lorenz number for a named model or a constant.
@@ -390,7 +474,8 @@ def lorenz_number(model: str | float, seebeck: ArrayLike | None = None,
     seebeck : array_like, optional
         Seebeck coefficient [V/K]; needed by ``spb`` and ``kim``, and sets the output shape.
     scattering_exponent : float
-        lambda for ``spb`` (0 acoustic phonons).
+        lambda for ``spb`` and ``nondegenerate`` (0 acoustic phonons); ``kim``, ``degenerate``
+        and constants do not depend on it.
 
     Returns
     -------
@@ -406,7 +491,7 @@ def lorenz_number(model: str | float, seebeck: ArrayLike | None = None,
     if model == "degenerate":
         return np.full(shape, LORENZ_DEGENERATE)
     if model == "nondegenerate":
-        return np.full(shape, LORENZ_NONDEGENERATE)
+        return np.full(shape, lorenz_nondegenerate(scattering_exponent))
     if model in ("spb", "kim"):
         if seebeck is None:
             raise DataError("S", "missing", f"the Seebeck coefficient is needed for lorenz={model}")

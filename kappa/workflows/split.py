@@ -8,25 +8,28 @@ and writes no files.
 
 Uncertainty model (Monte Carlo, seeded)
 ---------------------------------------
-Each measured quantity q in (kappa, sigma, S) gets one Gaussian relative error per draw,
-q -> q (1 + u_q z_q), applied to *all* temperatures of the sample: the dominant errors of
-transport measurements (sample geometry, thermocouple and heat-loss calibration, contact
-placement) are systematic over a temperature run, not independent from row to row. An optional
-``L`` entry adds a relative error on the Lorenz number (model uncertainty; default 0). The
-defaults are the average uncertainties of an interlaboratory round robin, Alleno et al.,
-Rev. Sci. Instrum. 86, 011301 (2015): S 6 %, resistivity 8 %, kappa 11 %. The table reports the
-value computed from the nominal inputs and the central 68.27 % interval (the +-1 standard
-deviation band of a Gaussian) of the draws; ``kappa_L_err`` is half that interval's width.
-Because the errors are systematic, the marginal interval at each temperature is what a
-per-row model would give as well, but quantities that compare temperatures (the bipolar excess)
-see correlated errors, as they should.
+Each input q in (kappa, sigma, S, L) has a systematic and a random relative 1-sigma part
+(:mod:`kappa.workflows.uncertainty`): q -> q (1 + u_q z_q + r_q e_q,i), with one Gaussian z_q
+per draw applied to *all* temperatures of the sample (sample geometry, thermocouple and
+heat-loss calibration, contact placement are shared by a temperature run) and one e_q,i per row
+and draw (the repeatability of one reading). Defaults: the round-robin averages of Alleno et
+al., Rev. Sci. Instrum. 86, 011301 (2015) as systematic parts (S 6 %, resistivity 8 %,
+kappa 11 %) and small random parts (kappa 2 %, sigma and S 1 %; common practice). The Lorenz
+number's model error ``L`` is 0 by default. The table reports the value computed from the
+nominal inputs and the central 68.27 % interval (the +-1 standard deviation band of a
+Gaussian) of the draws; ``kappa_L_err`` is half that interval's width, and
+``kappa_L_err_systematic`` / ``kappa_L_err_random`` are the half widths of the same Monte
+Carlo with only the systematic or only the random parts drawn (the same numbers). A fit uses
+them apart: the random part as point-to-point noise, the systematic part as one shared scale
+of the sample. :func:`~kappa.workflows.uncertainty.linear_budget` gives each input's share
+(``SplitResult.budget``).
 
-Memory and time: the draws of the relative errors (4 x draws numbers) are made once, in the
-same order as always; the rows are then processed in chunks of at most
-:data:`CHUNK_VALUES` (row, draw) values, so memory does not grow with rows x draws (10^6 rows
-x 2,000 draws run in well under 1 GB). The bipolar check first computes its per-draw fit from
-the window rows, then streams the rows like the rest. Draws are limited to
-:data:`DRAW_RANGE`; the scattering exponent to :data:`EXPONENT_RANGE`.
+Memory and time: the systematic draws (4 x draws numbers) are made once, in the same order as
+always; the random numbers come from a counter-based generator per (quantity, row, draw); the
+rows are processed in chunks of at most :data:`CHUNK_VALUES` (row, draw) values, so memory does
+not grow with rows x draws and the result does not depend on the chunk size. The bipolar check
+first computes its per-draw fit from the window rows, then streams the rows like the rest.
+Draws are limited to :data:`DRAW_RANGE`; the scattering exponent to :data:`EXPONENT_RANGE`.
 
 The bipolar check (A/T + B extrapolation, Goldsmid-Sharp gap) is in
 :mod:`kappa.workflows.bipolar`.
@@ -47,23 +50,33 @@ from kappa.core.electronic import (
     figure_of_merit,
     lorenz_kim,
     lorenz_number,
+    lorenz_regime_warnings,
     lorenz_spb,
 )
 from kappa.core.limits import cahill_minimum
 from kappa.errors import DataError, warn
 from kappa.workflows.bipolar import BipolarCheck, bipolar_check, window_rows
 from kappa.workflows.measurements import Measurements, measurements_from_arrays
+from kappa.workflows.uncertainty import (
+    DEFAULT_RANDOM,
+    DEFAULT_SYSTEMATIC,
+    QUANTITIES,
+    Parts,
+    linear_budget,
+    resolve_uncertainty,
+    row_normals,
+)
 
 __all__ = ["split", "split_measurements", "SplitResult", "BipolarCheck",
-           "DEFAULT_UNCERTAINTY", "UNCERTAINTY_KEYS", "INTERVAL", "DRAW_RANGE",
-           "EXPONENT_RANGE", "CHUNK_VALUES"]
+           "DEFAULT_UNCERTAINTY", "DEFAULT_RANDOM", "UNCERTAINTY_KEYS", "INTERVAL",
+           "DRAW_RANGE", "EXPONENT_RANGE", "CHUNK_VALUES"]
 
-#: Default relative uncertainties (Alleno et al., Rev. Sci. Instrum. 86, 011301 (2015)).
-DEFAULT_UNCERTAINTY: dict[str, float] = {"kappa": 0.11, "sigma": 0.08, "S": 0.06, "L": 0.0}
+#: Default systematic relative uncertainties (Alleno et al., Rev. Sci. Instrum. 86, 011301
+#: (2015)); the random parts are :data:`DEFAULT_RANDOM`.
+DEFAULT_UNCERTAINTY: dict[str, float] = DEFAULT_SYSTEMATIC
 #: Accepted keys of the uncertainty mapping (``resistivity`` and ``electrical_conductivity``
 #: are aliases of ``sigma``, the electrical conductivity as in the CSV column names).
 UNCERTAINTY_KEYS: tuple[str, ...] = ("kappa", "sigma", "resistivity", "S", "L")
-_SIGMA_ALIASES = ("resistivity", "electrical_conductivity")
 #: Allowed number of Monte Carlo draws (fewer gives noisy bands; more only costs time).
 DRAW_RANGE: tuple[int, int] = (100, 100_000)
 #: Allowed scattering exponent lambda of the single-parabolic-band Lorenz number
@@ -108,7 +121,10 @@ class SplitResult:
     kappa_L, kappa_L_low, kappa_L_high : numpy.ndarray
         Lattice part kappa - kappa_e (bipolar included) [W/(m K)].
     kappa_L_err : numpy.ndarray
-        Half the width of the 68 % interval of kappa_L [W/(m K)] (for weighting fits).
+        Half the width of the 68 % interval of kappa_L [W/(m K)], both parts drawn.
+    kappa_L_err_systematic, kappa_L_err_random : numpy.ndarray
+        The same with only the systematic (shared by all temperatures) or only the random
+        (point to point) parts drawn [W/(m K)]; a fit uses them apart.
     zT, zT_low, zT_high : numpy.ndarray or None
         Figure of merit [1] (None without S).
     kappa_L_degenerate, kappa_L_kim : numpy.ndarray or None
@@ -126,7 +142,12 @@ class SplitResult:
     bipolar : BipolarCheck or None
         The bipolar check (None with fewer than 5 rows).
     uncertainty : dict
-        Relative uncertainties used (keys kappa, sigma, S, L).
+        Systematic relative uncertainties used (keys kappa, sigma, S, L).
+    uncertainty_random : dict
+        Random relative uncertainties used (same keys).
+    budget : dict
+        Linear propagation of each input and part to kappa_L:
+        ``{quantity: {"systematic": array, "random": array}}`` [W/(m K)] per row.
     draws, seed : int
         Monte Carlo draws and seed.
     citations : tuple of str
@@ -149,6 +170,8 @@ class SplitResult:
     kappa_L_low: np.ndarray
     kappa_L_high: np.ndarray
     kappa_L_err: np.ndarray
+    kappa_L_err_systematic: np.ndarray
+    kappa_L_err_random: np.ndarray
     zT: np.ndarray | None
     zT_low: np.ndarray | None
     zT_high: np.ndarray | None
@@ -160,26 +183,12 @@ class SplitResult:
     below_minimum: np.ndarray | None
     bipolar: BipolarCheck | None
     uncertainty: dict[str, float]
+    uncertainty_random: dict[str, float]
+    budget: dict[str, dict[str, np.ndarray]]
     draws: int
     seed: int
     citations: tuple[str, ...] = ()
     notes: tuple[str, ...] = field(default_factory=tuple)
-
-
-def _resolve_uncertainty(uncertainty: Mapping[str, float] | None) -> dict[str, float]:
-    out = dict(DEFAULT_UNCERTAINTY)
-    for key, value in (uncertainty or {}).items():
-        if key not in UNCERTAINTY_KEYS and key not in _SIGMA_ALIASES:
-            raise DataError("uncertainty", key, f"keys allowed: {', '.join(UNCERTAINTY_KEYS)}")
-        v = float(value)
-        if not (0.0 <= v <= 0.5):
-            raise DataError(f"uncertainty {key}", value,
-                            "a relative uncertainty between 0 and 0.5 (e.g. 0.08 for 8 %)")
-        out["sigma" if key in _SIGMA_ALIASES else key] = v
-    if max(out.values()) > 0.25:
-        warn("relative uncertainties above 25 % make Gaussian draws near zero or negative "
-             "likely; the intervals are then only indicative")
-    return out
 
 
 def _lorenz_name(lorenz: str | float) -> str | float:
@@ -227,6 +236,18 @@ def _check_run(draws: object, seed: object, scattering_exponent: object) -> tupl
     return n, s, lam
 
 
+def _dlnL_dlnS(model: str | float, S: np.ndarray | None, lam: float) -> np.ndarray:
+    """d ln L / d ln |S| per row (central difference; 0 for models that ignore S)."""
+    if S is None or model not in ("spb", "kim"):
+        return np.zeros(1)
+    s = np.abs(S)
+    h = 1e-4
+    f = (lambda x: lorenz_spb(x, lam)) if model == "spb" else lorenz_kim
+    with np.errstate(divide="ignore", invalid="ignore"):
+        d = (np.log(f(s * (1 + h))) - np.log(f(s * (1 - h)))) / (math.log1p(h) - math.log1p(-h))
+    return np.where(np.isfinite(d), d, 0.0)
+
+
 def _temperatures(T: np.ndarray, shown: int = 8) -> str:
     """``300 K, 325 K, ...`` with at most ``shown`` values, then how many more."""
     text = ", ".join(f"{t:g} K" for t in T[:shown])
@@ -236,36 +257,72 @@ def _temperatures(T: np.ndarray, shown: int = 8) -> str:
 class _Draws:
     """The Monte Carlo of the split, evaluated for any subset of rows.
 
-    The relative errors (one per quantity and draw, shared by all temperatures) are drawn once;
-    :meth:`rows` returns the per-draw arrays (rows, draws) of the rows asked for, computed with
-    exactly the same arithmetic for every row whichever subset it is in.
+    The systematic relative errors (one per quantity and draw, shared by all temperatures) are
+    drawn once; the random ones come from :func:`~kappa.workflows.uncertainty.row_normals` per
+    (quantity, row, draw). :meth:`rows` returns the per-draw arrays (rows, draws) of the rows
+    asked for, computed with exactly the same arithmetic for every row whichever subset it is
+    in.
     """
 
     def __init__(self, m: Measurements, model: str | float, L: np.ndarray, lam: float,
-                 u: Mapping[str, float], draws: int, seed: int) -> None:
+                 parts: Mapping[str, Parts], draws: int, seed: int) -> None:
         rng = np.random.default_rng(seed)
         z = rng.standard_normal((4, draws))
-        self.f_k, self.f_s, self.f_S, self.f_L = (
-            (1.0 + u[key] * z[i])[None, :] for i, key in enumerate(("kappa", "sigma", "S", "L")))
+        self.sys = {q: (parts[q].systematic * z[i])[None, :] for i, q in enumerate(QUANTITIES)}
+        self.rand = {q: parts[q].random for q in QUANTITIES}
         self.m, self.model, self.L, self.lam = m, model, L, lam
+        self.draws, self.seed = draws, seed
+        self.any_random = any(v > 0 for v in self.rand.values())
+        self.any_systematic = any(p.systematic > 0 for p in parts.values())
 
-    def rows(self, idx: slice | np.ndarray, *, zT: bool = True) -> dict[str, np.ndarray]:
+    def _random(self, q: str, rows: np.ndarray) -> np.ndarray | float:
+        """r_q e_q,i for the rows (rows, draws), or 0.0 when the random part is 0."""
+        r = self.rand[q]
+        if r == 0.0:
+            return 0.0
+        return r * row_normals(self.seed, QUANTITIES.index(q), rows, self.draws)
+
+    def _lorenz(self, S_d: np.ndarray | None, idx, shape: tuple[int, int]) -> np.ndarray:
+        if self.model == "spb":
+            return lorenz_spb(S_d, self.lam)
+        if self.model == "kim":
+            return lorenz_kim(S_d)
+        return np.broadcast_to(self.L[idx][:, None], shape)
+
+    def _kappa_L(self, idx, f: Mapping[str, np.ndarray | float]) -> np.ndarray:
+        """kappa_L per (row, draw) with the relative factors ``f`` (only kappa_L)."""
         m = self.m
         T = m.temperature[idx][:, None]
-        kappa_d = m.kappa[idx][:, None] * self.f_k
-        sigma_d = m.electrical_conductivity[idx][:, None] * self.f_s
-        S_d = None if m.seebeck is None else np.abs(m.seebeck[idx])[:, None] * self.f_S
-        if self.model == "spb":
-            L_d = lorenz_spb(S_d, self.lam)
-        elif self.model == "kim":
-            L_d = lorenz_kim(S_d)
-        else:
-            L_d = np.broadcast_to(self.L[idx][:, None], kappa_d.shape)
-        L_d = L_d * self.f_L
+        kappa_d = m.kappa[idx][:, None] * f["kappa"]
+        shape = np.broadcast_shapes(kappa_d.shape, (T.shape[0], self.draws))
+        S_d = None if m.seebeck is None else np.abs(m.seebeck[idx])[:, None] * f["S"]
+        L_d = self._lorenz(S_d, idx, shape) * f["L"]
+        return kappa_d - L_d * (m.electrical_conductivity[idx][:, None] * f["sigma"]) * T
+
+    def rows(self, idx: slice | np.ndarray, *, zT: bool = True,
+             parts: bool = False) -> dict[str, np.ndarray]:
+        """Per-draw arrays of the rows ``idx``: L, kappa_e, kappa_L (and zT); with ``parts``
+        also kappa_L with only the systematic (``kappa_L_sys``) or only the random
+        (``kappa_L_rand``) parts drawn."""
+        m = self.m
+        rows = np.arange(m.temperature.size)[idx]
+        rand = {q: self._random(q, rows) for q in QUANTITIES}
+        f = {q: 1.0 + self.sys[q] + rand[q] if self.rand[q] > 0 else 1.0 + self.sys[q]
+             for q in QUANTITIES}
+        T = m.temperature[idx][:, None]
+        kappa_d = m.kappa[idx][:, None] * f["kappa"]
+        sigma_d = m.electrical_conductivity[idx][:, None] * f["sigma"]
+        S_d = None if m.seebeck is None else np.abs(m.seebeck[idx])[:, None] * f["S"]
+        L_d = self._lorenz(S_d, idx, kappa_d.shape) * f["L"]
         kappa_e_d = L_d * sigma_d * T
         out = {"L": L_d, "kappa_e": kappa_e_d, "kappa_L": kappa_d - kappa_e_d}
         if S_d is not None and zT:
             out["zT"] = S_d**2 * sigma_d * T / kappa_d
+        if parts:
+            out["kappa_L_sys"] = (self._kappa_L(idx, {q: 1.0 + self.sys[q] for q in QUANTITIES})
+                                  if self.any_random else out["kappa_L"])
+            out["kappa_L_rand"] = (self._kappa_L(idx, {q: 1.0 + rand[q] for q in QUANTITIES})
+                                   if self.any_systematic else out["kappa_L"])
         return out
 
 
@@ -287,13 +344,16 @@ def _intervals(mc: _Draws, n: int, draws: int, bipolar: tuple[np.ndarray, np.nda
     """
     out: dict[str, np.ndarray] = {}
     for chunk in _chunks(n, draws):
-        d = mc.rows(chunk)
+        d = mc.rows(chunk, parts=True)
         if bipolar is not None:
             X, coef_d = bipolar
             q_lo, q_hi = np.quantile(d["kappa_L"] - X[chunk] @ coef_d, _QS, axis=1)
             out.setdefault("mc", np.empty(n))[chunk] = 0.5 * (q_hi - q_lo)
+        done: dict[int, tuple[np.ndarray, np.ndarray]] = {}
         for key, values in d.items():
-            lo, hi = np.quantile(values, _QS, axis=1)
+            if id(values) not in done:  # the parts may be the total itself
+                done[id(values)] = tuple(np.quantile(values, _QS, axis=1))
+            lo, hi = done[id(values)]
             out.setdefault(key + "_lo", np.empty(n))[chunk] = lo
             out.setdefault(key + "_hi", np.empty(n))[chunk] = hi
         del d
@@ -339,7 +399,7 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
     if m.seebeck is None and model in ("spb", "kim"):
         raise DataError("S", "missing", f"a Seebeck column 'S [uV/K]' is needed for lorenz "
                         f"{model}; or choose degenerate, nondegenerate or a number")
-    u = _resolve_uncertainty(uncertainty)
+    parts = resolve_uncertainty(uncertainty)
     draws, seed, lam = _check_run(draws, seed, scattering_exponent)
     if (number_density is None) != (sound_velocities is None):
         raise DataError("number_density/sound_velocities", "only one given",
@@ -348,6 +408,9 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
     n = T.size
     notes: list[str] = []
     cites = [CITATIONS["wf"], CITATIONS["alleno"]]
+
+    for message in lorenz_regime_warnings(model, S, lam):
+        warn(message)
 
     # --- nominal values ----------------------------------------------------------------------
     eta = None
@@ -366,7 +429,7 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
     zT = figure_of_merit(S, sigma, kappa, T) if S is not None else None
 
     # --- Monte Carlo (one relative error per quantity and draw, all temperatures) -------------
-    mc = _Draws(m, model, L, lam, u, draws, seed)
+    mc = _Draws(m, model, L, lam, parts, draws, seed)
     check = n >= 5 or fit_window is not None
     bipolar_draws = None
     # progress in rows: the window rows of the bipolar check (when they need chunks), then all
@@ -417,6 +480,7 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
         notes.append("fewer than 5 rows: bipolar check skipped")
 
     kl_lo, kl_hi = q["kappa_L_lo"], q["kappa_L_hi"]
+    budget = linear_budget(kappa, kappa_e, _dlnL_dlnS(model, S, lam), parts)
     return SplitResult(
         temperature=T, kappa=kappa, electrical_conductivity=sigma, seebeck=S,
         lorenz_model=model if isinstance(model, str) else "constant",
@@ -424,10 +488,14 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
         kappa_e=kappa_e, kappa_e_low=q["kappa_e_lo"], kappa_e_high=q["kappa_e_hi"],
         kappa_L=kappa_L, kappa_L_low=kl_lo, kappa_L_high=kl_hi,
         kappa_L_err=0.5 * (kl_hi - kl_lo),
+        kappa_L_err_systematic=0.5 * (q["kappa_L_sys_hi"] - q["kappa_L_sys_lo"]),
+        kappa_L_err_random=0.5 * (q["kappa_L_rand_hi"] - q["kappa_L_rand_lo"]),
         zT=zT, zT_low=q.get("zT_lo"), zT_high=q.get("zT_hi"),
         kappa_L_degenerate=kappa_L_deg, kappa_L_kim=kappa_L_kim, eta=eta,
         kappa_min=kappa_min, nonpositive=nonpositive, below_minimum=below, bipolar=bip,
-        uncertainty=u, draws=draws, seed=seed, citations=tuple(cites),
+        uncertainty={k: p.systematic for k, p in parts.items()},
+        uncertainty_random={k: p.random for k, p in parts.items()}, budget=budget,
+        draws=draws, seed=seed, citations=tuple(cites),
         notes=tuple(notes),
     )
 
@@ -454,12 +522,15 @@ def split(temperature: ArrayLike, kappa: ArrayLike, electrical_conductivity: Arr
     lorenz : {'spb', 'degenerate', 'nondegenerate', 'kim'} or float
         Lorenz model, or a constant [W Ohm K^-2].
     scattering_exponent : float
-        lambda of tau ~ E^(lambda-1/2) for ``spb``, within :data:`EXPONENT_RANGE`: 0 acoustic
-        phonons (default), 1 polar optical, 2 ionized impurities.
+        lambda of tau ~ E^(lambda-1/2) for ``spb`` and ``nondegenerate`` ((2 + lambda)
+        (k_B/e)^2), within :data:`EXPONENT_RANGE`: 0 acoustic phonons (default), 1 polar
+        optical, 2 ionized impurities.
     uncertainty : mapping, optional
         Relative 1-sigma uncertainties, keys ``kappa``, ``sigma`` (or ``resistivity``,
-        ``electrical_conductivity``), ``S``, ``L``; missing keys take
-        :data:`DEFAULT_UNCERTAINTY`.
+        ``electrical_conductivity``), ``S``, ``L``; each value a number (the systematic part,
+        shared by all temperatures; the random part keeps its default), a pair
+        ``(systematic, random)`` or :class:`~kappa.workflows.uncertainty.Parts`. Missing keys
+        take :data:`DEFAULT_UNCERTAINTY` (systematic) and :data:`DEFAULT_RANDOM` (random).
     draws : int
         Monte Carlo draws, within :data:`DRAW_RANGE` (100 to 100,000).
     seed : int
