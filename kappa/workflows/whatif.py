@@ -129,6 +129,9 @@ def check_covariance(model: Model, covariance: Covariance) -> None:
                                                  covariance.values, strict=True)):
         try:
             model.check_key(key)
+            parts = key.split(".")
+            if parts[0] == "scattering" and model.scattering.get(parts[1]) is None:
+                raise ConfigError(key, allowed=f"scattering.{parts[1]} is absent")
             now = float(model.value(key))
         except KappaError as exc:
             raise ConfigError(key, allowed=f"the fit record's key is not in this config "
