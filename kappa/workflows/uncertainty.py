@@ -15,10 +15,10 @@ al., Rev. Sci. Instrum. 86, 011301 (2015), which are dominated by calibration an
 they are taken as systematic) and :data:`DEFAULT_RANDOM` (the point-to-point repeatability of
 one instrument: common practice, no single source).
 
-The per-row random numbers come from :func:`row_normals`, a counter-based generator: the number
-of (seed, quantity, row, draw) is the same whichever rows are computed together, so the chunked
-Monte Carlo gives the same result for every chunk size and the bipolar window sees the same
-draws as the table. :func:`linear_budget` gives the linear error propagation of every input and
+The per-row random numbers come from :class:`RowNormals` (fixed blocks of rows, each with its
+own seeded generator): the number of (seed, quantity, row, draw) is the same whichever rows are
+computed together, so the chunked Monte Carlo gives the same result for every chunk size and
+the bipolar window sees the same draws as the table. :func:`linear_budget` gives the linear error propagation of every input and
 part (what the run record reports as "which input contributed what").
 """
 
@@ -33,7 +33,8 @@ import numpy as np
 from kappa.errors import DataError, warn
 
 __all__ = ["Parts", "QUANTITIES", "DEFAULT_SYSTEMATIC", "DEFAULT_RANDOM", "ALIASES",
-           "MAX_RELATIVE", "resolve_uncertainty", "row_normals", "linear_budget"]
+           "MAX_RELATIVE", "ROW_BLOCK", "RowNormals", "resolve_uncertainty", "row_normals",
+           "linear_budget"]
 
 #: The uncertain inputs, in the order of the Monte Carlo's systematic draws.
 QUANTITIES: tuple[str, ...] = ("kappa", "sigma", "S", "L")
@@ -119,53 +120,54 @@ def resolve_uncertainty(uncertainty: Mapping[str, object] | None = None) -> dict
     return out
 
 
-# --- counter-based standard normals ----------------------------------------------------------
+# --- per-row standard normals, addressable by row ----------------------------------------------
 #
-# SplitMix64 (Steele, Lea & Flood, OOPSLA 2014): the output for counter c of the stream with
-# key k is mix(k + c * golden); every (row, draw) has its own counter, so a number does not
-# depend on which other rows are computed with it. Uniforms (h >> 11 + 1/2) / 2^53 lie in
-# (0, 1) and become normals through the inverse normal distribution function.
+# The rows are cut into fixed blocks of ROW_BLOCK rows; block b of stream q gets its own numpy
+# generator seeded with (seed, q, b), which draws the block's (ROW_BLOCK, draws) normals in
+# one call. A row's numbers therefore depend only on (seed, stream, row, draws), not on which
+# other rows are asked for at the same time; the last blocks made are kept for the next call
+# (chunks and the bipolar window ask for neighbouring rows).
 
-_GOLDEN = np.uint64(0x9E3779B97F4A7C15)
-_M1 = np.uint64(0xBF58476D1CE4E5B9)
-_M2 = np.uint64(0x94D049BB133111EB)
-_ROW_SHIFT = np.uint64(32)
-
-
-def _mix(z: np.ndarray) -> np.ndarray:
-    z = (z ^ (z >> np.uint64(30))) * _M1
-    z = (z ^ (z >> np.uint64(27))) * _M2
-    return z ^ (z >> np.uint64(31))
+#: Rows per block of random numbers.
+ROW_BLOCK = 256
 
 
-def row_normals(seed: int, stream: int, rows: np.ndarray, draws: int) -> np.ndarray:
+class RowNormals:
+    """Standard normal numbers for every (row, draw) of one stream, addressable by row."""
+
+    def __init__(self, seed: int, stream: int, draws: int, keep: int = 4) -> None:
+        self.seed, self.stream, self.draws, self.keep = int(seed), int(stream), int(draws), keep
+        self._blocks: dict[int, np.ndarray] = {}
+
+    def _block(self, b: int) -> np.ndarray:
+        block = self._blocks.get(b)
+        if block is None:
+            rng = np.random.default_rng([self.seed, 0x5EED, self.stream, b])
+            block = rng.standard_normal((ROW_BLOCK, self.draws), dtype=np.float32)
+            if len(self._blocks) >= self.keep:
+                self._blocks.pop(next(iter(self._blocks)))
+            self._blocks[b] = block
+        return block
+
+    def __call__(self, rows) -> np.ndarray:
+        """The numbers of ``rows`` (array of row indices >= 0): shape (len(rows), draws)."""
+        rows = np.asarray(rows, dtype=np.int64).ravel()
+        out = np.empty((rows.size, self.draws))
+        blocks = rows // ROW_BLOCK
+        for b in np.unique(blocks):
+            pick = blocks == b
+            out[pick] = self._block(int(b))[rows[pick] - b * ROW_BLOCK]
+        return out
+
+
+def row_normals(seed: int, stream: int, rows, draws: int) -> np.ndarray:
     """Standard normal numbers for every (row, draw): shape (len(rows), draws).
 
-    The number of (``seed``, ``stream``, row, draw) is fixed: the same rows give the same
-    numbers whichever other rows are asked for at the same time.
-
-    Parameters
-    ----------
-    seed : int
-        Seed (>= 0).
-    stream : int
-        Independent stream (one per quantity).
-    rows : array_like of int
-        Row indices (>= 0, below 2^31).
-    draws : int
-        Number of draws (below 2^32).
+    The number of (``seed``, ``stream``, row, draw) is fixed for a given ``draws``: the same
+    rows give the same numbers whichever other rows are asked for at the same time
+    (:class:`RowNormals` keeps recent blocks between calls).
     """
-    key = np.random.SeedSequence([int(seed), 0x5EED, int(stream)]).generate_state(
-        1, dtype=np.uint64)[0]
-    r = np.asarray(rows, dtype=np.uint64).reshape(-1, 1)
-    d = np.arange(int(draws), dtype=np.uint64).reshape(1, -1)
-    with np.errstate(over="ignore"):
-        counter = (r << _ROW_SHIFT) | d
-        h = _mix(key + (counter + np.uint64(1)) * _GOLDEN)
-    u = ((h >> np.uint64(11)).astype(np.float64) + 0.5) * 2.0**-53
-    from scipy.special import ndtri  # imported here: keeps `import kappa` fast
-
-    return ndtri(u)
+    return RowNormals(seed, stream, draws)(rows)
 
 
 def linear_budget(kappa: np.ndarray, kappa_e: np.ndarray, dlnL_dlnS: np.ndarray,

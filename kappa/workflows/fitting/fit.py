@@ -252,7 +252,9 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
     for s in sample_fits:
         cites += [c for c in s.model.mechanisms.citations() if c not in cites]
     cites += FIT_CITATIONS
-    modes = {s.data.errors for s in samples if s.data.errors}
+    # "separate" data whose systematic part is zero leave only the random part
+    modes = {("random" if s.data.errors == "separate" else s.data.errors) for s in samples
+             if s.data.errors}
     errors = ("separate" if fitted_scales else (modes.pop() if len(modes) == 1 else "total")
               ) if weighted else "none"
     labels = tuple(p.label for p in params) + tuple(f"scale:{f.sample}" for f in fitted_scales)
