@@ -154,3 +154,25 @@ def test_notes_units_and_text():
     assert notes["hardness"].value == 9.0 and notes["hardness"].unit == "GPa"
     assert notes["count"].value == 4.0
     assert parse_notes("one text", "n")["text"].text == "one text"
+
+
+def test_data_names_the_measurements_when_measured_is_absent(tmp_path):
+    s = _series(tmp_path, SERIES.replace("measured: S1.csv", "data: S1.csv"))
+    out = tmp_path / "split"
+    r = runner.invoke(app, ["split", "--series", str(s), "--draws", "200", "-o", str(out)])
+    assert r.exit_code == 0, r.output
+    written = yaml.safe_load((out / "series.yaml").read_text(encoding="utf-8"))
+    first = written["samples"][0]
+    assert first["data"] == "samples/S1/split.csv" and first["measured"].endswith("S1.csv")
+
+
+def test_errors_random_takes_a_lone_uncertainty_as_the_random_part(tmp_path):
+    from kappa.io.fitfiles import read_fit_data
+
+    p = tmp_path / "k.csv"
+    p.write_text("T [K],kappa_L [W/(m K)],kappa_L_err [W/(m K)]\n100,10,0.2\n200,6,0.1\n"
+                 "300,4,0.1\n", encoding="utf-8")
+    d = read_fit_data(p, errors="random")
+    assert d.errors == "random" and d.systematic is None
+    assert d.uncertainty.tolist() == [0.2, 0.1, 0.1]
+    assert "taken as the random part" in d.uncertainty_source

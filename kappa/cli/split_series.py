@@ -138,6 +138,8 @@ def _fit_series_file(sf, out: Path) -> str:
     samples = []
     for e in sf.entries:
         item = dict(e.item)
+        if "measured" not in item:  # the split read its measurements from data
+            item["measured"] = item.get("data")
         item["data"] = f"samples/{e.name}/split.csv"
         measured = item.get("measured")
         if isinstance(measured, str):

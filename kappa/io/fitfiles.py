@@ -70,7 +70,9 @@ def read_fit_data(path: str | Path, *, window: tuple[float, float] | None = None
     ``kappa_L_err_systematic`` as the width of one shared scale of the sample (the columns
     ``kappa split`` writes); ``random`` the random column only; ``total`` ``kappa_L_err`` or,
     failing that, half the width of ``kappa_L_low``..``kappa_L_high`` (the 68 % band), taken
-    as independent from point to point; ``none`` no uncertainties. ``auto`` (default):
+    as independent from point to point (``random`` falls back to the same columns when there is
+    no random column: the one uncertainty is then taken as point-to-point); ``none`` no
+    uncertainties. ``auto`` (default):
     ``separate`` when both parts are there, else ``total`` with a warning, else ``none``.
     """
     from kappa.io.tables import read_table
@@ -104,6 +106,11 @@ def read_fit_data(path: str | Path, *, window: tuple[float, float] | None = None
                  "total as independent")
     sigma = systematic = None
     how = ""
+    if mode == "random" and "kappa_L_err_random" not in table and has_total:
+        mode = "total"  # the one uncertainty given is taken as the random part
+        how_note = " (taken as the random part, --errors random)"
+    else:
+        how_note = ""
     if mode in ("separate", "random"):
         need = ("kappa_L_err_systematic", "kappa_L_err_random") if mode == "separate" else (
             "kappa_L_err_random",)
@@ -130,7 +137,10 @@ def read_fit_data(path: str | Path, *, window: tuple[float, float] | None = None
                             "kappa_L_err (or kappa_L_low and kappa_L_high); or choose "
                             "--errors none")
     data = fit_data(T, k, sigma, systematic=systematic, window=window,
-                    name=name or Path(path).stem, source=src, uncertainty_source=how, nan=nan)
+                    name=name or Path(path).stem, source=src,
+                    uncertainty_source=how + how_note, nan=nan)
+    if how_note:
+        mode = "random"
     return replace(data, errors=mode if data.errors != "none" else "none")
 
 

@@ -276,24 +276,26 @@ def load_series_file(path: str | Path, *,
 
 def read_split_series(path: str | Path) -> tuple[SeriesFile, tuple[SplitSample, ...]]:
     """The samples of a series file for ``kappa split --series``: measurement files (checked
-    to exist), composition and notes."""
+    to exist), composition and notes. A sample without ``measured`` may name its measurement
+    file(s) under ``data``."""
     sf = load_series_file(path)
     out = []
     for e in sf.entries:
-        measured = e.item.get("measured")
+        key = "measured" if "measured" in e.item else "data"  # data: a lone measurement file
+        measured = e.item.get(key)
         if measured is None:
             raise ConfigError(f"{e.key}.measured", allowed="missing; the measurement file(s) "
                               "of the sample (T, kappa or D+rho+cp, sigma or resistivity, S)")
         names = [measured] if isinstance(measured, str) else measured
         if not isinstance(names, list) or not names or not all(isinstance(n, str)
                                                                 for n in names):
-            raise ConfigError(f"{e.key}.measured", measured, "a file name or a list of file "
+            raise ConfigError(f"{e.key}.{key}", measured, "a file name or a list of file "
                               "names")
         files = []
         for j, n in enumerate(names):
             p = sf.folder / n
             if not p.is_file():
-                where = f"{e.key}.measured" + ("" if isinstance(measured, str) else f".{j}")
+                where = f"{e.key}.{key}" + ("" if isinstance(measured, str) else f".{j}")
                 raise ConfigError(where, n, f"file not found (looked for {p})")
             files.append(p)
         comp = e.item.get("composition")
