@@ -146,3 +146,24 @@ def test_alloy_with_intervals(fitted, tmp_path):
                             str(tmp_path / "bad")])
     assert "differs from the fitted" in _one_error(r)
     assert not (tmp_path / "bad").exists()
+
+
+def test_an_answer_the_data_do_not_pin_is_flagged(fitted, tmp_path):
+    # grains 3 % below the fitted size change κ_L by a little, and the fitted size is only
+    # known to about 10 %: the interval of that small change includes no change (or spans
+    # more than a factor of two)
+    rec = json.loads((fitted / "fit" / "fit.json").read_text())
+    grain = next(p["value"] for p in rec["parameters"]
+                 if p["key"] == "scattering.boundary.grain_size")
+    out = tmp_path / "p"
+    r = runner.invoke(app, ["predict", str(fitted / "fit" / "fitted.yaml"), "--fit",
+                            str(fitted / "fit" / "fit.json"), "--compare",
+                            f"scattering.boundary.grain_size={0.97 * grain!r}", "--draws", "300",
+                            "-o", str(out)])
+    assert r.exit_code == 0, r.output
+    assert "not pinned by the data" in r.output
+    assert "includes no change" in r.output or "spans more than a factor of 2" in r.output
+    t = read_table(out / "kappa_L.csv")
+    pinned = next(t.get(c.name, "1") for c in t.columns.values() if c.name.startswith("pinned("))
+    assert np.any(pinned == 0)
+    assert json.loads((out / "run.json").read_text())["what_if"]["not_pinned"] > 0
