@@ -84,6 +84,16 @@ VALUES: dict[str, Reference] = {
     "lorenz_nondegenerate_acoustic": R(1.485e-8, "W Ohm/K^2", "2(k_B/e)², non-degenerate "
                                        "single parabolic band, acoustic phonons", "derived",
                                        1e-3, "quoted to 4 digits"),
+    "lorenz_nondegenerate_lambda": R(2.0, "(k_B/e)^2", "non-degenerate limit (eta -> -inf) of "
+                                      "the single-parabolic-band Lorenz number with "
+                                      "tau ~ E^(lambda-1/2): (lambda + 2)(k_B/e)^2, since "
+                                      "F_j(eta) -> Gamma(j+1) e^eta (standard; checked with "
+                                      "mpmath's polylog); the value is the constant 2 + lambda "
+                                      "at lambda = 0", "derived", 1e-12, "closed form"),
+    "degenerate_seebeck_limit": R(100e-6, "V/K", "|S| below which carriers are degenerate "
+                                  "enough for the Sommerfeld Lorenz number (at 100 uV/K the SPB "
+                                  "with acoustic scattering gives L about 25 % lower)",
+                                  "from memory", 0.3, "common practice, no single source"),
     "spb_eta0_S": R(204.50, "uV/K", "single parabolic band, λ = 0, η = 0: S from Fermi–Dirac "
                     "integrals (mpmath)", "derived", 1e-4, "quoted to 5 digits"),
     "spb_eta0_L": R(1.6130e-8, "W Ohm/K^2", "single parabolic band, λ = 0, η = 0: L (mpmath)",
@@ -179,6 +189,19 @@ VALUES: dict[str, Reference] = {
                           "used as a default"),
     "roundrobin_seebeck": R(0.06, "1", "Alleno et al. 2015: Seebeck coefficient", "published",
                             0.0, "used as a default"),
+    "repeatability_kappa": R(0.02, "1", "point-to-point repeatability of laser-flash "
+                             "diffusivity within one run", "from memory", 0.0,
+                             "common practice, no single source; used as a default"),
+    "repeatability_sigma": R(0.01, "1", "point-to-point repeatability of four-probe "
+                             "resistivity within one run", "from memory", 0.0,
+                             "common practice, no single source; used as a default"),
+    "repeatability_seebeck": R(0.01, "1", "point-to-point repeatability of the Seebeck "
+                               "coefficient within one run", "from memory", 0.0,
+                               "common practice, no single source; used as a default"),
+    # --- statistics -------------------------------------------------------------------------
+    "gaussian_68": R(0.682689492137, "1", "probability content of +-1 standard deviation of a "
+                     "Gaussian, erf(1/sqrt(2)) (scipy.special)", "derived", 1e-12,
+                     "closed form"),
 }
 
 

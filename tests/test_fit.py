@@ -386,7 +386,7 @@ def test_fit_data_column_names_and_units(tmp_path):
     p = tmp_path / "alt.csv"
     p.write_text("temperature [degC],kappa_lattice [mW/(cm K)],kappa_L_sigma [mW/(cm K)]\n"
                  "26.85,100,3\n126.85,60,2\n226.85,40,1\n", encoding="utf-8")
-    d = read_fit_data(p)
+    d = read_fit_data(p, errors="total")
     assert d.temperature == pytest.approx([300.0, 400.0, 500.0])
     assert d.kappa_L == pytest.approx([10.0, 6.0, 4.0])  # 1 mW/(cm K) = 0.1 W/(m K)
     assert d.uncertainty == pytest.approx([0.3, 0.2, 0.1])

@@ -4,7 +4,9 @@
 the bundled configs and examples as computed by kappa 0.1.0, the release before the core was
 rebuilt around one model object and one evaluator. The PbTe and Bi2Te3 configs have since been
 re-derived with atoms_per_cell; their 0.1.0 versions are kept in ``tests/data/configs-0.1/``
-and the fixture points at them. They are a regression fixture (the redesign
+and the fixture points at them. Likewise the fit demo's data now carry a shared error and
+scatter in separate columns; the 0.1.0 files (total error only) are kept in
+``tests/data/fit-demo-0.1/``. They are a regression fixture (the redesign
 must not change results), not a check against the outside world — the physics checks live in
 the other test modules with their sources.
 
@@ -33,6 +35,7 @@ from kappa.workflows.sweep import sweep
 
 ROOT = Path(__file__).resolve().parents[1]
 BEFORE = json.loads((ROOT / "tests" / "data" / "before-redesign.json").read_text())
+DEMO_01 = ROOT / "tests" / "data" / "fit-demo-0.1"
 RTOL_SAME = 1e-9  # same physics, same quadrature: rounding only
 # Bundled configs that have since been re-derived: the fixture's numbers belong to the configs
 # as they were then, kept under tests/data.
@@ -114,8 +117,8 @@ def test_model_values_unchanged(name):
 
 def test_single_fit_unchanged():
     rec = BEFORE["fit"]["single"]
-    model = load_config(ROOT / "examples/fit-demo/base.yaml").model
-    res = fit(model, read_fit_data(ROOT / "examples/fit-demo/FH-11_coarse.csv"), rec["free"])
+    model = load_config(DEMO_01 / "base.yaml").model
+    res = fit(model, read_fit_data(DEMO_01 / "FH-11_coarse.csv"), rec["free"])
     _close([p.value for p in res.parameters], rec["values"], RTOL_FIT)
     _close([p.stderr for p in res.parameters], rec["stderr"], RTOL_FIT)
     _close(res.chi2, rec["chi2"], RTOL_FIT)
@@ -124,7 +127,7 @@ def test_single_fit_unchanged():
 
 def test_series_fit_unchanged():
     rec = BEFORE["fit"]["series"]
-    s = read_series(ROOT / "examples/fit-demo/series.yaml")
+    s = read_series(DEMO_01 / "series.yaml")
     res = fit_series(s.samples, s.shared, s.per_sample, start_values=s.start_values,
                      bounds=s.bounds)
     assert [p.label for p in res.parameters] == rec["labels"]

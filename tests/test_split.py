@@ -50,7 +50,7 @@ def test_monte_carlo_linear_case_matches_analytic_propagation():
     # z -> its sd is sqrt((u_k kappa)^2 + (u_s kappa_e)^2) (analytic propagation, exact);
     # the +-1 sd central interval holds 68.27 %.
     kappa, sigma, L = 2.0, 1e5, 2.0e-8
-    u = {"kappa": 0.10, "sigma": 0.05, "S": 0.0}
+    u = {"kappa": (0.10, 0.0), "sigma": (0.05, 0.0), "S": 0.0}  # systematic parts only
     r = split(T5, np.full(5, kappa), np.full(5, sigma), lorenz=L, uncertainty=u, draws=100_000,
               seed=11)
     ke = L * sigma * T5

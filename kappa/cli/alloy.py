@@ -24,9 +24,17 @@ Writes OUT/alloy.csv (fraction [1], T [K], kappa_L [W/(m K)] with mass and strai
 kappa_L_mass_only [W/(m K)], Γ_M, Γ_S and the interpolated values), OUT/alloy.png and .svg
 (κ_L against x, a line per temperature) and OUT/run.json.
 
+With --fit FIT.json (the record 'kappa fit' wrote for the FIRST end member, a fitted.yaml)
+the fitted end member's parameters are drawn from the fit's covariance; every draw becomes
+its own alloy series, so alloy.csv adds kappa_L_low, kappa_L_high (68 %), kappa_L_ratio
+(κ_L over the fitted end member's κ_L), kappa_L_ratio_low, kappa_L_ratio_high and pinned
+(0 where the data do not pin the answer), and the figure shows bands.
+
 Examples:
 
   kappa alloy si.yaml ge.yaml --fraction 0:1:21 --at 300K -o sige
+
+  kappa alloy fit1/fitted.yaml other.yaml --fit fit1/fit.json --fraction 0:0.3:7 --at 300K
 
   kappa alloy mg2si.yaml mg2sn.yaml --fraction 0,0.2,0.4,0.6 --at 300K,600K
       --strain-parameter 60 -o mgsisn
@@ -78,7 +86,14 @@ def alloy_command(
                                              "folder beside the first config).")] = None,
     force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")
                      ] = False,
+    fit: Annotated[Path | None, typer.Option("--fit", help="fit.json written by 'kappa fit' "
+                                             "for the first end member: 68 % intervals.",
+                                             exists=True, dir_okay=False)] = None,
+    draws: Annotated[int, typer.Option("--draws", help="Parameter sets drawn for --fit "
+                                       "(50 to 100,000).")] = 200,
+    seed: Annotated[int, typer.Option("--seed", min=0, help="Seed of the --fit draws.")] = 0,
 ) -> None:
+    from kappa.cli.whatif import record as what_if_record
     from kappa.core.disorder import STRAIN_PARAMETER_SOURCE
     from kappa.errors import ConfigError, KappaError
     from kappa.io.config import load_config
@@ -104,11 +119,28 @@ def alloy_command(
     else:
         raise ConfigError("--at", allowed="missing: give temperatures with --at (e.g. --at "
                           f"300K,600K) or a temperature section in {first.name}")
+    cov = None
+    if fit is not None:
+        from kappa.cli.whatif import load_fit
+
+        cov = load_fit(fit, configs[0].model)
+    inputs = [first, second, *([fit] if fit is not None else [])]
     out = out or default_out(first, "alloy")
-    check_out(out, force=force, inputs=[first, second])
+    check_out(out, force=force, inputs=inputs)
     names = (first.name, second.name)
     series = alloy_series(configs[0].model, configs[1].model, x, T,
                           strain_parameter=strain_parameter, names=names)
+    answers = None
+    if cov is not None:
+        from kappa.workflows.whatif import alloy_what_if
+
+        try:
+            answers = alloy_what_if(configs[0].model, cov, configs[1].model, x, T,
+                                    strain_parameter=strain_parameter, names=names,
+                                    draws=draws, seed=seed)
+        except ConfigError as exc:
+            raise exc.renamed({"draws": "--draws", "seed": "--seed"}.get(exc.key, exc.key)
+                              ) from None
     m = series.models
     nx, nT = x.size, T.size
     columns = [("fraction [1]", np.repeat(x, nT)), ("T [K]", np.tile(T, nx)),
@@ -116,6 +148,13 @@ def alloy_command(
                ("kappa_L_mass_only [W/(m K)]", series.kappa_L_mass_only.ravel()),
                ("mass_variance [1]", np.repeat(m.mass_variance, nT)),
                ("strain_variance [1]", np.repeat(m.strain_variance, nT))]
+    if answers is not None:
+        columns += [("kappa_L_low [W/(m K)]", answers.low.ravel()),
+                    ("kappa_L_high [W/(m K)]", answers.high.ravel()),
+                    ("kappa_L_ratio [1]", answers.ratio.ravel()),
+                    ("kappa_L_ratio_low [1]", answers.ratio_low.ravel()),
+                    ("kappa_L_ratio_high [1]", answers.ratio_high.ravel()),
+                    ("pinned [1]", answers.pinned.ravel().astype(int))]
     for key, values in m.values.items():
         if key.startswith("scattering.point_defect"):
             continue
@@ -127,6 +166,10 @@ def alloy_command(
     from kappa.presentation.style import save
 
     fig = plot_alloy(series, (first.stem, second.stem))
+    if answers is not None:
+        from kappa.presentation.whatif import add_alloy_bands
+
+        add_alloy_bands(fig, answers)
     record = run_record(
         "alloy",
         end_members=[str(first), str(second)],
@@ -143,10 +186,11 @@ def alloy_command(
                "gruneisen and scattering parameters": "linear in x"},
         resolved_inputs={"first": configs[0].data, "second": configs[1].data},
         end_member_models=[model_summary(c.model) for c in configs],
+        what_if=None if answers is None else what_if_record(answers, fit, seed),
         outputs=["alloy.csv", "alloy.png", "alloy.svg", "run.json"],
         citations=series.citations,
     )
-    with output_folder(out, force=force, inputs=[first, second]) as tmp:
+    with output_folder(out, force=force, inputs=inputs) as tmp:
         write_table(tmp / "alloy.csv", columns)
         save(fig, tmp / "alloy")
         write_json(tmp / "run.json", record)
@@ -156,8 +200,20 @@ def alloy_command(
         typer.echo(f"note: {note}")
     rows = [[x[i], T[t], series.kappa_L[i, t], series.kappa_L_mass_only[i, t],
              m.mass_variance[i], m.strain_variance[i]] for i in range(nx) for t in range(nT)]
-    common.print_table(["x", "T [K]", "kappa_L [W/(m K)]", "mass only", "Γ_M", "Γ_S"], rows,
-                       max_rows=24)
+    headers = ["x", "T [K]", "kappa_L [W/(m K)]", "mass only", "Γ_M", "Γ_S"]
+    if answers is not None:
+        w = answers
+        for row, (i, t) in zip(rows, [(i, t) for i in range(nx) for t in range(nT)],
+                               strict=True):
+            row += [f"{w.low[i, t]:.4g} .. {w.high[i, t]:.4g}",
+                    f"{w.ratio[i, t]:.4g} ({w.ratio_low[i, t]:.4g} .. {w.ratio_high[i, t]:.4g})",
+                    "yes" if w.pinned[i, t] else "NO"]
+        headers += ["68 %", f"ratio to {first.stem} (68 %)", "pinned"]
+    common.print_table(headers, rows, max_rows=24)
+    if answers is not None:
+        from kappa.cli.whatif import print_flags
+
+        print_flags(answers, [f"x={v:.4g}" for v in x])
     typer.echo(f"wrote {out}/alloy.csv, alloy.png, alloy.svg, run.json")
 
 

@@ -13,22 +13,30 @@ from . import common
 HELP = f"""Fit free parameters of a config to measured lattice conductivity κ_L(T).
 
 DATA is a CSV with 'T [K]' and 'kappa_L [W/(m K)]' (any units of the right dimension), e.g. the
-split.csv of 'kappa split'. With a 'kappa_L_err' column (or 'kappa_L_low'/'kappa_L_high', read
-as a 68 % band) the residuals are weighted by the uncertainties; without, relative residuals
-are used and the errors are scaled by the residual scatter.
+split.csv of 'kappa split'. Uncertainties (--errors): with 'kappa_L_err_random' and
+'kappa_L_err_systematic' (written by 'kappa split') the random part weights the points and the
+systematic part, shared by all temperatures, becomes one scale per sample fitted as a nuisance
+parameter with a Gaussian prior of that width (separate; the default when both are there); the
+parameter errors then include the shared calibration error. 'random' uses the random part
+only; 'total' takes 'kappa_L_err' (or 'kappa_L_low'/'kappa_L_high' as a 68 % band) as
+independent per point (the default, with a warning, when only it is there); 'none' fits
+relative residuals and scales the errors by the residual scatter.
 
 Free keys are dotted config keys (see 'kappa check'); KEY=START also sets the start value
 (needed for a mechanism that is not in the config); KEY=LOW:HIGH sets bounds, e.g.
 --free scattering.boundary.grain_size=10nm:100um (the same as --bounds KEY=LOW:HIGH). Log-space fit for positive quantities;
 several seeded starts; standard errors, correlations, AIC/BIC, and warnings for parameters at
-bounds, strongly correlated pairs, parameters the data do not need, and high-temperature
-upturns (bipolar conduction).
+bounds, strongly correlated pairs, parameters the data do not need, mechanisms the fit drove to
+an effective zero, chi2_red far from 1 (either way), and high-temperature upturns (bipolar
+conduction).
 
 Writes OUT/fitted.yaml (the config with fitted values; runs in 'kappa predict'), OUT/fit.json
 (fitted keys and covariance, read by 'kappa predict fitted.yaml --band'), OUT/parameters.csv,
-OUT/correlation.csv, OUT/residuals.csv, OUT/fit.png/.svg and OUT/run.json. A series writes the
-combined tables and figure, and OUT/samples/NAME/ with each sample's fitted.yaml, fit.json
-and residuals.csv.
+OUT/correlation.csv, OUT/residuals.csv, OUT/fit.png/.svg and OUT/run.json (and OUT/scales.csv
+with the fitted shared scales). A series writes the combined tables and figure,
+OUT/notes.png/.svg (each per-sample fitted value against the sample's own notes, with the 1:1
+line where they are the same quantity) when the series file gives notes, and
+OUT/samples/NAME/ with each sample's fitted.yaml, fit.json and residuals.csv.
 
 \b
 Examples:
@@ -38,7 +46,9 @@ Examples:
       --free scattering.boundary.grain_size=1um --bounds scattering.boundary.grain_size=10nm:1mm \\
       --window 100K:600K -o fit1
   kappa fit --series series.yaml -o series-fit
-  kappa predict fit1/fitted.yaml --band -o fit1-band
+  kappa fit my.yaml old.csv --free material.gruneisen --errors total -o fit2
+  kappa predict fit1/fitted.yaml --fit fit1/fit.json \
+      --compare scattering.boundary.grain_size=1um,100nm -o what-if
 
 {common.CAUTION}
 """
@@ -64,6 +74,10 @@ def fit_command(
     seed: Annotated[int, typer.Option("--seed", min=0, help="Seed of the start draws.")] = 0,
     nan: Annotated[str, typer.Option("--nan", help="NaN rows in the data: raise or omit.")
                    ] = "raise",
+    errors: Annotated[str, typer.Option("--errors", help="Uncertainties used: auto, separate "
+                                        "(random part per point + systematic part as one "
+                                        "shared scale per sample), random, total or none.")
+                      ] = "auto",
     set_: Annotated[list[str] | None, typer.Option("--set", help="Override a config value "
                                                    "KEY=VALUE before fitting (repeatable).")
                     ] = None,
@@ -77,21 +91,28 @@ def fit_command(
     from kappa.io.outdir import check_out, default_out
     from kappa.io.units import parse_window
     from kappa.workflows.fitting import fit_series
+    from kappa.workflows.fitting.data import ERROR_MODES
 
     if nan not in ("raise", "omit"):
         raise ConfigError("--nan", nan, "raise or omit")
+    if errors not in ERROR_MODES:
+        raise ConfigError("--errors", errors, ", ".join(ERROR_MODES))
     if series is not None:
         if config is not None or data is not None or free or window or set_:
             raise ConfigError("--series", str(series), "give either a series file, or CONFIG "
                               "DATA with --free (and --window, --set); not both")
-        loaded = read_series(series, nan=nan, extra_bounds=bounds or [])
+        loaded = read_series(series, nan=nan, extra_bounds=bounds or [], errors=errors)
         samples, shared, per = loaded.samples, loaded.shared, loaded.per_sample
         starts_, bounds_ = loaded.start_values, loaded.bounds
         configs = loaded.configs
         inputs = list(loaded.files)
         out = out or default_out(series, "fit")
         meta = {"series": str(series), "shared": list(shared), "per_sample": list(per),
-                "bounds": {k: list(v) for k, v in bounds_.items()}}
+                "bounds": {k: list(v) for k, v in bounds_.items()}, "errors": errors,
+                "notes": {name: {k: {"text": n.text, "value": n.value, "unit": n.unit}
+                                 for k, n in notes.items()}
+                          for name, notes in loaded.notes.items()}}
+        series_notes = loaded.notes
     else:
         if config is None or data is None:
             raise ConfigError("CONFIG DATA", allowed="give a config and a data file (or "
@@ -105,14 +126,16 @@ def fit_command(
         cfg = load_config(config, set_ or [])
         shared, starts_, bounds_ = parse_free(cfg.model, free, bounds or [])
         per = []
-        fdata = read_fit_data(data, window=parse_window(window, "--window"), nan=nan)
+        fdata = read_fit_data(data, window=parse_window(window, "--window"), nan=nan,
+                              errors=errors)
+        series_notes = {}
         samples = [SeriesSample(fdata.name, cfg.model, fdata)]
         configs = {fdata.name: cfg}
         inputs = [config, data]
         out = out or default_out(data, "fit")
         meta = {"config": str(config), "data": str(data), "overrides": list(set_ or []),
                 "free": list(free), "bounds": {k: list(v) for k, v in bounds_.items()},
-                "window": window}
+                "window": window, "errors": errors}
     check_out(out, force=force, inputs=inputs)
     try:
         result = fit_series(samples, shared, per, start_values=starts_, bounds=bounds_,
@@ -121,8 +144,10 @@ def fit_command(
         raise exc.renamed(_flag(exc.key)) from None
     from kappa.presentation.fit import fit_curves
 
-    _write(result, fit_curves(result), out, force, inputs, meta, series is not None, configs)
-    _report(result, out, series is not None)
+    _write(result, fit_curves(result), out, force, inputs, meta, series is not None, configs,
+           series_notes)
+    _report(result, out, series is not None, bool(series_notes and _has_note_pairs(
+        result, series_notes)))
 
 
 def _flag(key: str) -> str:
@@ -164,6 +189,10 @@ def _residual_columns(s, weighted: bool):
     cols = [("T [K]", s.data.temperature), ("kappa_L [W/(m K)]", s.data.kappa_L)]
     if s.data.uncertainty is not None:
         cols.append(("kappa_L_err [W/(m K)]", s.data.uncertainty))
+    if s.data.systematic is not None:
+        cols.append(("kappa_L_err_systematic [W/(m K)]", s.data.systematic))
+    if s.scale_factor is not None:
+        cols.append(("scale_factor [1]", s.scale_factor))
     cols += [("kappa_L_fit [W/(m K)]", s.kappa_L_fit),
              ("residual [W/(m K)]", s.residual),
              ("relative_residual [1]", s.data.kappa_L / s.kappa_L_fit - 1.0)]
@@ -172,10 +201,17 @@ def _residual_columns(s, weighted: bool):
     return cols
 
 
+def _scale_rows(result) -> list[dict]:
+    return [{"sample": f.sample, "systematic_width": f.width, "z": f.z, "z_stderr": f.z_stderr,
+             "factor": f.factor, "low68": f.low68, "high68": f.high68} for f in result.scales]
+
+
 def _stats(result) -> dict:
     return {
         "n_points": result.n_points, "n_free": result.n_free, "dof": result.dof,
+        "errors": result.errors,
         "weighting": result.weighting,
+        "shared_scales": _scale_rows(result),
         "chi2" if result.weighted else "rss_log": result.chi2,
         "chi2_red": result.chi2_red,
         "rms_relative_residual" if not result.weighted else "rms_normalized_residual":
@@ -206,7 +242,14 @@ def _header(result, extra: str, sample: str | None) -> str:
             "reads it).\nComments of the original config are not carried over.")
 
 
-def _write(result, curves, out, force, inputs, meta, is_series: bool, configs) -> None:
+def _has_note_pairs(result, notes) -> bool:
+    from kappa.presentation.fit import note_pairs
+
+    return bool(note_pairs(result, notes))
+
+
+def _write(result, curves, out, force, inputs, meta, is_series: bool, configs,
+           notes=None) -> None:
     from kappa.io.fitfiles import fit_record, fitted_config_data
     from kappa.io.outdir import output_folder
     from kappa.io.records import dump_yaml, run_record, write_json
@@ -224,6 +267,14 @@ def _write(result, curves, out, force, inputs, meta, is_series: bool, configs) -
         outputs = ["parameters.csv", "correlation.csv", "fit.png", "fit.svg", "run.json",
                    "samples/NAME/fitted.yaml", "samples/NAME/fit.json",
                    "samples/NAME/residuals.csv"]
+    notes_fig = None
+    if notes and _has_note_pairs(result, notes):
+        from kappa.presentation.fit import plot_notes
+
+        notes_fig = plot_notes(result, notes)
+        outputs += ["notes.png", "notes.svg"]
+    if result.scales:
+        outputs.append("scales.csv")
     record = run_record(
         "fit", **meta,
         weighting=result.weighting,
@@ -244,6 +295,13 @@ def _write(result, curves, out, force, inputs, meta, is_series: bool, configs) -
                     [("parameter", labels)] + [(lab, result.correlation[:, j])
                                                for j, lab in enumerate(labels)])
         save(fig, tmp / "fit")
+        if notes_fig is not None:
+            save(notes_fig, tmp / "notes")
+        if result.scales:
+            scale_rows = _scale_rows(result)
+            write_table(tmp / "scales.csv", [(f"{name} [1]" if name != "sample" else name,
+                                              [r[name] for r in scale_rows])
+                                             for name in scale_rows[0]])
         write_json(tmp / "run.json", record)
         for s in result.samples:
             folder = tmp / "samples" / s.name if is_series else tmp
@@ -258,7 +316,7 @@ def _write(result, curves, out, force, inputs, meta, is_series: bool, configs) -
             write_table(folder / "residuals.csv", _residual_columns(s, result.weighted))
 
 
-def _report(result, out, is_series: bool) -> None:
+def _report(result, out, is_series: bool, notes_figure: bool = False) -> None:
     for s in result.samples:
         for line in s.data.dropped:
             common.echo_err(f"note: {line}")
@@ -274,8 +332,15 @@ def _report(result, out, is_series: bool) -> None:
         rows.append([p.label, f"{p.shown(p.value):.5g}", err, interval,
                      "" if p.display == "1" else p.display, p.at_bound or "-"])
     common.print_table(headers, rows, max_rows=100)
+    for f in result.scales:
+        typer.echo(f"{f.sample}: shared scale of the data (systematic part, "
+                   f"{100 * f.width:.3g} % 1-sigma) fitted at {f.factor:.4g} "
+                   f"(68 %: {f.low68:.4g} .. {f.high68:.4g}); the parameter errors include it")
     if result.weighted:
-        typer.echo(f"weighted by the measurement uncertainties: chi2_red = "
+        what = {"separate": "random part per point, systematic part as a shared scale",
+                "random": "random part per point only",
+                }.get(result.errors, "uncertainties taken as independent per point")
+        typer.echo(f"weighted ({what}): chi2_red = "
                    f"{result.chi2_red:.4g} (n = {result.n_points}, k = {result.n_free})")
     else:
         typer.echo(f"no uncertainties given: errors scaled by the residual scatter "
@@ -285,11 +350,14 @@ def _report(result, out, is_series: bool) -> None:
     typer.echo(f"AIC = {result.aic:.5g}, BIC = {result.bic:.5g}; {result.converged} of "
                f"{result.starts} starts reached the best minimum")
     if is_series:
-        typer.echo(f"wrote {out}/ (parameters.csv, correlation.csv, fit.png, fit.svg, run.json; "
-                   "samples/NAME/ with fitted.yaml, fit.json, residuals.csv)")
+        extra = (", notes.png, notes.svg" if notes_figure else "") + (
+            ", scales.csv" if result.scales else "")
+        typer.echo(f"wrote {out}/ (parameters.csv, correlation.csv, fit.png, fit.svg{extra}, "
+                   "run.json; samples/NAME/ with fitted.yaml, fit.json, residuals.csv)")
     else:
+        extra = ", scales.csv" if result.scales else ""
         typer.echo(f"wrote {out}/ (fitted.yaml, fit.json, parameters.csv, correlation.csv, "
-                   "residuals.csv, fit.png, fit.svg, run.json)")
+                   f"residuals.csv, fit.png, fit.svg{extra}, run.json)")
 
 
 def register(app: typer.Typer) -> None:

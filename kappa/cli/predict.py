@@ -26,9 +26,20 @@ Examples:
 
   kappa predict fit1/fitted.yaml --band --draws 400 --seed 0 -o fit1-band
 
+  kappa predict fit1/fitted.yaml --fit fit1/fit.json
+      --compare scattering.boundary.grain_size=1um,100nm,20nm -o what-if
+
 --band (for a fitted.yaml written by 'kappa fit') draws parameter sets from the fit's
 covariance (fit.json beside the config) and adds the 16th/84th percentiles of κ_L as
 kappa_L_low/kappa_L_high columns and a shaded band.
+
+--fit FIT.json (the record written with the fitted.yaml) does the same and gives every
+--compare curve its 68 % interval and the ratio to the fitted sample with its interval
+(kappa_L_low(...), kappa_L_high(...), kappa_L_ratio(...), kappa_L_ratio_low(...),
+kappa_L_ratio_high(...), pinned(...) columns; bands in the figure). An answer whose interval
+includes no change or spans more than a factor of two is "not pinned by the data": pinned = 0,
+hatched in the figure, and a line on the terminal. The record must belong to the config
+(its keys in the config, the config's values the fitted ones), else exit 2.
 
 {common.CAUTION}
 """
@@ -47,11 +58,18 @@ def predict_command(
                                                  "values of one key: KEY=V1,V2,...")] = None,
     band: Annotated[bool, typer.Option("--band", help="68 % band from the fit covariance in "
                                        "fit.json beside a fitted.yaml.")] = False,
-    draws: Annotated[int, typer.Option("--draws", min=10, help="Parameter draws for --band.")
-                     ] = 400,
-    seed: Annotated[int, typer.Option("--seed", min=0, help="Seed of the --band draws.")] = 0,
+    fit: Annotated[Path | None, typer.Option("--fit", help="fit.json written by 'kappa fit' "
+                                             "for this config: 68 % intervals of the curve "
+                                             "and of every --compare answer.",
+                                             exists=True, dir_okay=False)] = None,
+    draws: Annotated[int, typer.Option("--draws", min=10, help="Parameter draws for --band "
+                                       "and --fit.")] = 400,
+    seed: Annotated[int, typer.Option("--seed", min=0, help="Seed of the --band and --fit "
+                                      "draws.")] = 0,
 ) -> None:
     from kappa.cli.run import Run
+    from kappa.cli.whatif import record as what_if_record
+    from kappa.errors import ConfigError
     from kappa.io.config import derived_lines, load_config
     from kappa.io.grids import parse_key_values
     from kappa.io.records import model_summary
@@ -59,28 +77,51 @@ def predict_command(
 
     cfg = load_config(config, set_ or [])
     T = cfg.require_temperature()
-    inputs = [config, config.parent / "fit.json"] if band else [config]
-    run = Run("predict", out, force=force, inputs=inputs, beside=config)
+    record_path = fit if fit is not None else (config.parent / "fit.json" if band else None)
+    inputs = [config] + ([record_path] if record_path is not None else [])
     model = cfg.model
+    cov = None
+    if fit is not None:
+        from kappa.cli.whatif import load_fit
+
+        cov = load_fit(fit, model)
+    run = Run("predict", out, force=force, inputs=inputs, beside=config)
     prediction = predict(model, T)
     overlays = []
+    key = values = None
     if compare_:
         key, values, texts = parse_key_values(model, compare_, "--compare")
         leaf = key.split(".")[-1]
         overlays = [(f"{leaf}={text}", p)
                     for text, p in zip(texts, compare(model, key, values, T), strict=True)]
     columns = [("T [K]", prediction.temperature), ("kappa_L [W/(m K)]", prediction.kappa_L)]
-    fit_band = None
-    if band:
+    fit_band = answers = None
+    if band or fit is not None:
         from kappa.io.fitfiles import read_fit_record
         from kappa.workflows.fitting import prediction_band
 
-        fit_band = prediction_band(model, read_fit_record(config.parent / "fit.json"), T,
-                                   draws=draws, seed=seed)
+        if cov is None:
+            cov = read_fit_record(config.parent / "fit.json")
+        fit_band = prediction_band(model, cov, T, draws=draws, seed=seed)
         columns += [("kappa_L_low [W/(m K)]", fit_band.low),
                     ("kappa_L_high [W/(m K)]", fit_band.high)]
     if overlays:
         columns += [(f"kappa_L({label}) [W/(m K)]", p.kappa_L) for label, p in overlays]
+    if overlays and fit is not None:
+        from kappa.workflows.whatif import what_if
+
+        try:
+            answers = what_if(model, cov, {key: values}, T, draws=draws, seed=seed)
+        except ConfigError as exc:
+            raise exc.renamed({"draws": "--draws", "seed": "--seed"}.get(exc.key, exc.key)
+                              ) from None
+        for i, (label, _) in enumerate(overlays):
+            columns += [(f"kappa_L_low({label}) [W/(m K)]", answers.low[i]),
+                        (f"kappa_L_high({label}) [W/(m K)]", answers.high[i]),
+                        (f"kappa_L_ratio({label}) [1]", answers.ratio[i]),
+                        (f"kappa_L_ratio_low({label}) [1]", answers.ratio_low[i]),
+                        (f"kappa_L_ratio_high({label}) [1]", answers.ratio_high[i]),
+                        (f"pinned({label}) [1]", answers.pinned[i].astype(int))]
     for key, k in prediction.without.items():
         columns.append((f"kappa_L_without_{key} [W/(m K)]", k))
     if prediction.optical is not None:
@@ -99,7 +140,11 @@ def predict_command(
         fig = plot_prediction(dataclasses.replace(prediction, without={}), overlays)
     else:
         fig = plot_prediction(prediction, overlays)
-    if fit_band is not None:
+    if answers is not None:
+        from kappa.presentation.whatif import add_overlay_bands
+
+        add_overlay_bands(fig, answers)
+    elif fit_band is not None:
         from kappa.presentation.fit import add_band
 
         add_band(fig.axes[0], fit_band.temperature, fit_band.low, fit_band.high)
@@ -110,8 +155,9 @@ def predict_command(
         config=str(config),
         overrides=list(set_ or []),
         compare=compare_,
+        what_if=None if answers is None else what_if_record(answers, fit, seed),
         band=None if fit_band is None else {
-            "source": str(config.parent / "fit.json"), "draws": draws, "seed": seed,
+            "source": str(record_path), "draws": draws, "seed": seed,
             "accepted": fit_band.draws, "rejected": fit_band.rejected,
             "keys": list(fit_band.keys),
             "columns": "kappa_L_low/kappa_L_high: 16th/84th percentiles over the draws"},
@@ -126,7 +172,27 @@ def predict_command(
     headers = [h for h, _ in columns if not h.startswith("C_V")][:6]
     rows = list(zip(*[v for h, v in columns if h in headers], strict=True))
     common.print_table(headers, rows)
+    if answers is not None:
+        _print_answers(answers, [label for label, _ in overlays])
     typer.echo(f"wrote {run.out}/ ({', '.join(run.outputs)})")
+
+
+def _print_answers(w, labels: list[str]) -> None:
+    from kappa.cli.whatif import print_flags
+    from kappa.presentation.sweep import pick
+
+    typer.echo(f"\nWhat if (68 % intervals from the fit, {w.draws} parameter sets; ratio to "
+               "the fitted sample):")
+    rows = []
+    for s, label in enumerate(labels):
+        for t in pick(w.temperature.size, 4):
+            rows.append([label, w.temperature[t], w.kappa_L[s, t],
+                         f"{w.low[s, t]:.4g} .. {w.high[s, t]:.4g}", w.ratio[s, t],
+                         f"{w.ratio_low[s, t]:.4g} .. {w.ratio_high[s, t]:.4g}",
+                         "yes" if w.pinned[s, t] else "NO"])
+    common.print_table(["scenario", "T [K]", "kappa_L", "68 %", "ratio", "ratio 68 %",
+                        "pinned"], rows, max_rows=48)
+    print_flags(w, labels)
 
 
 def register(app: typer.Typer) -> None:

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import math
 from pathlib import Path
 from typing import Annotated
 
@@ -10,20 +9,17 @@ import numpy as np
 import typer
 
 from kappa.cli import common
-from kappa.core.electronic import LORENZ_MODELS
+from kappa.cli.split_options import Options, parse_options
 from kappa.errors import DataError
 from kappa.io.measurements import read_measurements
 from kappa.io.outdir import check_out, default_out, output_folder
 from kappa.io.records import run_record, write_json
 from kappa.io.tables import write_table
-from kappa.io.units import parse_quantity, parse_window
-from kappa.workflows.measurements import NAN_POLICIES, Measurements
+from kappa.workflows.measurements import Measurements
 from kappa.workflows.split import (
+    DEFAULT_RANDOM,
     DEFAULT_UNCERTAINTY,
-    DRAW_RANGE,
-    EXPONENT_RANGE,
     INTERVAL,
-    UNCERTAINTY_KEYS,
     SplitResult,
     split_measurements,
 )
@@ -38,14 +34,22 @@ DATA files are CSV with 'name [unit]' headers: T, kappa (or the flash trio D, rh
 sigma or resistivity, S. Several files (e.g. flash and electrical data) are merged onto the
 temperatures of the thermal data by linear interpolation, never extrapolation.
 
-Writes OUT/split.csv, OUT/split.png, OUT/split.svg and OUT/run.json.
+Uncertainties have a systematic part (one relative error per quantity shared by all
+temperatures: calibration, geometry) and a random part (independent per row); split.csv gives
+kappa_L_err (both) and kappa_L_err_systematic / kappa_L_err_random, which 'kappa fit' uses apart.
+
+Writes OUT/split.csv, OUT/split.png, OUT/split.svg and OUT/run.json. With --series: OUT/series.csv
+(all samples, with their notes), OUT/samples.csv, OUT/series.png/.svg (kappa, kappa_L, kappa_e
+and zT of all samples on shared axes), OUT/series.yaml (the series file for 'kappa fit --series',
+data pointing at OUT/samples/NAME/split.csv) and OUT/samples/NAME/ with each sample's split.
 
 \b
 Examples:
   kappa split sample.csv -o sample-split
   kappa split flash.csv electrical.csv --composition Mg2Si0.4Sn0.6 -o out
-  kappa split data.csv --lorenz kim --uncertainty kappa=0.08,sigma=0.05,S=0.05
+  kappa split data.csv --lorenz kim --uncertainty kappa=0.08+0.02,sigma=0.05,S=0.05+0.01
   kappa split data.csv --lorenz spb --scattering-exponent 2 --window 300K:450K
+  kappa split --series samples.yaml -o series-split
   kappa split data.csv --lorenz 2.0e-8 --nan omit --draws 5000 --seed 7
 
 Limits: --draws 100 to 100,000; --seed >= 0; --scattering-exponent -0.9 to 4.
@@ -64,100 +68,24 @@ _OPTIONS = {"fit_window": "--window", "draws": "--draws", "seed": "--seed",
 # --- option parsing (all before anything is written) ------------------------------------------
 
 
-def parse_lorenz(text: str) -> str | float:
-    """``spb|degenerate|nondegenerate|kim`` or a number (W Ohm/K^2, a unit may be written)."""
-    t = text.strip()
-    if t in LORENZ_MODELS:
-        return t
-    allowed = (f"{', '.join(LORENZ_MODELS)} or a number in W Ohm/K^2 (e.g. 2.0e-8)")
-    try:
-        value = parse_quantity(t, "W*ohm/K^2", "--lorenz", error=DataError)
-    except DataError:
-        raise DataError("--lorenz", text, allowed) from None
-    if not 0 < value < 1e-6:
-        raise DataError("--lorenz", text, allowed + "; values near 2e-8 are usual")
-    return value
-
-
-def parse_uncertainty(text: str | None) -> dict[str, float]:
-    """``kappa=0.08,sigma=5%,S=0.05`` -> relative uncertainties."""
-    out: dict[str, float] = {}
-    if not text:
-        return out
-    allowed = (f"comma-separated key=value with keys {', '.join(UNCERTAINTY_KEYS)} and relative "
-               "values (0.08 or 8%), e.g. kappa=0.08,sigma=0.05,S=0.05")
-    for item in text.split(","):
-        if not item.strip():
-            continue
-        key, sep, value = item.partition("=")
-        key, value = key.strip(), value.strip()
-        if not sep or key not in UNCERTAINTY_KEYS:
-            import difflib
-
-            close = difflib.get_close_matches(key, UNCERTAINTY_KEYS, n=1, cutoff=0.6)
-            hint = f"did you mean '{close[0]}'? " if close and sep else ""
-            raise DataError("--uncertainty", item.strip(), hint + allowed)
-        try:
-            v = float(value[:-1]) / 100.0 if value.endswith("%") else float(value)
-        except ValueError:
-            raise DataError("--uncertainty", item.strip(), allowed) from None
-        if not (0.0 <= v <= 0.5) or math.isnan(v):
-            raise DataError("--uncertainty", item.strip(),
-                            "a relative uncertainty between 0 and 0.5 (50%)")
-        out["sigma" if key == "resistivity" else key] = v
-    return out
-
-
-def parse_run_options(draws: int, seed: int, scattering_exponent: float) -> None:
-    """Check --draws, --seed and --scattering-exponent before anything is read."""
-    low, high = DRAW_RANGE
-    if not low <= draws <= high:
-        raise DataError("--draws", draws, f"from {low:,} to {high:,} Monte Carlo draws "
-                        "(2,000 give bands good to about 3 %)")
-    if seed < 0:
-        raise DataError("--seed", seed, "a whole number >= 0 (the same seed gives the same "
-                        "draws)")
-    lo, hi = EXPONENT_RANGE
-    if not lo <= scattering_exponent <= hi:
-        raise DataError("--scattering-exponent", scattering_exponent,
-                        f"from {lo:g} to {hi:g} (lambda in tau ~ E^(lambda-1/2): 0 acoustic "
-                        "phonons, 1 polar optical, 2 ionized impurities)")
-
-
-def parse_cahill(number_density: str | None,
-                 velocities: list[str] | None) -> tuple[float | None, list[float] | None]:
-    if number_density is None and not velocities:
-        return None, None
-    if number_density is None or not velocities:
-        raise DataError("--number-density/--sound-velocity", "only one given",
-                        "give both for the Cahill minimum (e.g. --number-density '4.99e28 1/m^3'"
-                        " --sound-velocity '8.95 km/s' --sound-velocity '5.35 km/s')")
-    n = parse_quantity(number_density, "1/m^3", "--number-density", error=DataError)
-    if not n > 0:
-        raise DataError("--number-density", number_density, "must be > 0 (atoms per volume)")
-    if len(velocities) > 3:
-        raise DataError("--sound-velocity", ", ".join(velocities),
-                        "1 to 3 values (one for all branches; v_L, v_T; or v_L, v_T1, v_T2)")
-    vs = []
-    for v in velocities:
-        x = parse_quantity(v, "m/s", "--sound-velocity", error=DataError)
-        if not x > 0:
-            raise DataError("--sound-velocity", v, "must be > 0 m/s")
-        vs.append(x)
-    return n, vs
-
-
 # --- output -------------------------------------------------------------------------------------
 
 
 def table_columns(r: SplitResult, m: Measurements) -> list[tuple[str, object]]:
-    """The columns of ``split.csv`` (the first four are fixed; readers may rely on them)."""
+    """The columns of ``split.csv`` (the first four are fixed; readers may rely on them).
+
+    ``kappa_L_err`` is half the 68 % interval with all uncertainties drawn;
+    ``kappa_L_err_systematic`` and ``kappa_L_err_random`` the same with only the part shared
+    by all temperatures, or only the point-to-point part (``kappa fit`` uses them apart).
+    """
     cols: list[tuple[str, object]] = [
         ("T [K]", r.temperature),
         ("L [W Ohm/K^2]", r.lorenz),
         ("kappa_e [W/(m K)]", r.kappa_e),
         ("kappa_L [W/(m K)]", r.kappa_L),
         ("kappa_L_err [W/(m K)]", r.kappa_L_err),
+        ("kappa_L_err_systematic [W/(m K)]", r.kappa_L_err_systematic),
+        ("kappa_L_err_random [W/(m K)]", r.kappa_L_err_random),
         ("kappa_L_low [W/(m K)]", r.kappa_L_low),
         ("kappa_L_high [W/(m K)]", r.kappa_L_high),
         ("kappa_e_low [W/(m K)]", r.kappa_e_low),
@@ -195,16 +123,30 @@ def summary_lines(r: SplitResult, m: Measurements) -> list[str]:
     model = r.lorenz_model
     if model == "spb":
         model += f" (scattering exponent lambda = {r.scattering_exponent:g})"
+    elif model == "nondegenerate":
+        model += (f" ((2 + lambda)(k_B/e)^2 = {float(r.lorenz[0]):.4g} W Ohm/K^2, lambda = "
+                  f"{r.scattering_exponent:g})")
     elif model == "constant":
         model = f"constant {float(r.lorenz[0]):.4g} W Ohm/K^2"
     extra = "degenerate and kim" if r.kappa_L_kim is not None else "degenerate"
     lines.append(f"Lorenz model: {model}; split.csv also has kappa_L with L {extra}")
     if m.heat_capacity is not None:
         lines.append(f"Heat capacity: {m.heat_capacity_source}")
-    u = r.uncertainty
-    lines.append("Uncertainty (relative, 1 sigma, one draw per quantity for all temperatures): "
-                 + ", ".join(f"{k} {100 * u[k]:g} %" for k in ("kappa", "sigma", "S", "L"))
+    u, ur = r.uncertainty, r.uncertainty_random
+    lines.append("Uncertainty (relative, 1 sigma, systematic (shared by all temperatures) + "
+                 "random (point to point)): "
+                 + ", ".join(f"{k} {100 * u[k]:g} % + {100 * ur[k]:g} %"
+                             for k in ("kappa", "sigma", "S", "L"))
                  + f"; {r.draws} draws, seed {r.seed}; bands are {100 * INTERVAL:.2f} % intervals")
+    rel_sys = np.median(r.kappa_L_err_systematic / np.abs(r.kappa_L))
+    rel_rand = np.median(r.kappa_L_err_random / np.abs(r.kappa_L))
+    shares = sorted(((float(np.median(v / np.abs(r.kappa_L))), f"{k} {part}")
+                     for k, parts in r.budget.items() for part, v in parts.items()),
+                    reverse=True)
+    top = ", ".join(f"{name} {100 * v:.2g} %" for v, name in shares[:3] if v > 0)
+    lines.append(f"kappa_L uncertainty (median over rows, relative): systematic "
+                 f"{100 * rel_sys:.2g} %, random {100 * rel_rand:.2g} %"
+                 + (f"; largest inputs: {top}" if top else ""))
     for d in m.dropped:
         lines.append(f"Dropped: {d}")
     for note in (*m.notes, *r.notes):
@@ -253,9 +195,14 @@ def _flags(r: SplitResult, i: int) -> str:
 
 
 def split_command(
-    data: Annotated[list[Path], typer.Argument(
+    data: Annotated[list[Path] | None, typer.Argument(
         help="Measurement CSV file(s); columns T, kappa or D+rho+cp, sigma or resistivity, S.",
-        exists=True, dir_okay=False, readable=True, show_default=False, metavar="DATA.csv...")],
+        exists=True, dir_okay=False, readable=True, show_default=False,
+        metavar="DATA.csv...")] = None,
+    series: Annotated[Path | None, typer.Option(
+        "--series", help="A series file: several samples' measurement files and notes (the "
+        "format of 'kappa fit --series'); writes one table and overlay figures for all.",
+        exists=True, dir_okay=False, show_default=False)] = None,
     out: Annotated[Path | None, typer.Option(
         "-o", "--out", help="Output folder (default: beside the first file, with a time stamp).",
         show_default=False)] = None,
@@ -265,14 +212,17 @@ def split_command(
         "--lorenz", help="Lorenz model: spb, degenerate, nondegenerate, kim, or a number in "
         "W Ohm/K^2 (e.g. 2.0e-8).")] = "spb",
     scattering_exponent: Annotated[float, typer.Option(
-        "--scattering-exponent", help="lambda in tau ~ E^(lambda-1/2) for --lorenz spb, "
-        "-0.9 to 4: 0 acoustic phonons, 1 polar optical, 2 ionized impurities.")] = 0.0,
+        "--scattering-exponent", help="lambda in tau ~ E^(lambda-1/2) for --lorenz spb and "
+        "nondegenerate ((2+lambda)(k_B/e)^2), -0.9 to 4: 0 acoustic phonons, 1 polar optical, "
+        "2 ionized impurities.")] = 0.0,
     composition: Annotated[str | None, typer.Option(
         "--composition", help="Chemical formula (e.g. Bi2Te2.7Se0.3); cp = Dulong-Petit "
         "3R/M for flash data.", show_default=False)] = None,
     uncertainty: Annotated[str | None, typer.Option(
-        "--uncertainty", help="Relative 1-sigma uncertainties, e.g. kappa=0.08,sigma=0.05,S=0.05"
-        " (keys kappa, sigma|resistivity, S, L). Defaults: kappa=0.11,sigma=0.08,S=0.06,L=0.",
+        "--uncertainty", help="Relative 1-sigma uncertainties KEY=SYSTEMATIC[+RANDOM], e.g. "
+        "kappa=0.08+0.02,sigma=5%,S=0.05+0.01 (keys kappa, sigma|resistivity, S, L); systematic "
+        "= shared by all temperatures, random = point to point (a lone value sets the "
+        "systematic part). Defaults: kappa=0.11+0.02,sigma=0.08+0.01,S=0.06+0.01,L=0+0.",
         show_default=False)] = None,
     window: Annotated[str | None, typer.Option(
         "--window", help="Window LOW:HIGH of the A/T + B fit of the bipolar check, e.g. "
@@ -302,9 +252,21 @@ def split_command(
             _usage_error("--window", f"{window} and --fit-window {fit_window}",
                          "give --window once (--fit-window is its old name)")
         window = fit_window
+    if (series is None) == (not data):
+        _usage_error("DATA.csv.../--series", "both" if series is not None else "neither",
+                     "give measurement files, or --series FILE (not both)")
+    if series is not None and composition is not None:
+        _usage_error("--composition", composition, "with --series give each sample's "
+                     "composition in the series file (samples.N.composition)")
     if config is not None:
         number_density, sound_velocity = _cahill_from_config(config, number_density,
                                                              sound_velocity)
+    if series is not None:
+        from kappa.cli.split_series import run_series
+
+        run_series(series, out, force, lorenz, scattering_exponent, uncertainty, window, nan,
+                   draws, seed, number_density, sound_velocity, config)
+        return
     _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, window,
          nan, draws, seed, number_density, sound_velocity, config)
 
@@ -331,34 +293,62 @@ def _cahill_from_config(config: Path, number_density: str | None,
     return number_density, sound_velocity
 
 
-@common.handles_errors(command="split")
-def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, window_text,
-         nan, draws, seed, number_density, sound_velocity, config) -> None:
-    # 1. validate every option and the data before anything is written
-    model = parse_lorenz(lorenz)
-    unc = parse_uncertainty(uncertainty)
-    window = parse_window(window_text, "--window", error=DataError)
-    n_density, velocities = parse_cahill(number_density, sound_velocity)
-    if nan not in NAN_POLICIES:
-        raise DataError("--nan", nan, "raise or omit")
-    parse_run_options(draws, seed, scattering_exponent)
-    inputs = [*data, *([config] if config is not None else [])]
-    out = Path(out) if out is not None else default_out(data[0], "split")
-    check_out(out, force=force, inputs=inputs)
-    m = read_measurements(data, nan=nan, composition=composition)
+def check_seebeck(m: Measurements, model: str | float, where: str) -> None:
     if m.seebeck is None and model in ("spb", "kim"):
-        raise DataError(", ".join(p.name for p in data), "no column 'S [...]'",
+        raise DataError(where, "no column 'S [...]'",
                         f"a Seebeck column (e.g. 'S [uV/K]') is needed for --lorenz {model}; "
                         "or choose --lorenz degenerate, nondegenerate or a number")
+
+
+def compute(m: Measurements, opts: Options, label: str = "split") -> SplitResult:
+    """The split of one sample's measurements with the command's options."""
     try:
-        r = split_measurements(m, lorenz=model, scattering_exponent=scattering_exponent,
-                               uncertainty=unc, draws=draws, seed=seed, fit_window=window,
-                               number_density=n_density, sound_velocities=velocities,
-                               progress=common.Bar("split"))
+        return split_measurements(m, lorenz=opts.lorenz,
+                                  scattering_exponent=opts.scattering_exponent,
+                                  uncertainty=opts.uncertainty, draws=opts.draws,
+                                  seed=opts.seed, fit_window=opts.window,
+                                  number_density=opts.number_density,
+                                  sound_velocities=opts.velocities,
+                                  progress=common.Bar(label))
     except DataError as exc:
         if exc.key not in _OPTIONS:
             raise
         raise DataError(_OPTIONS[exc.key], exc.value, exc.allowed) from None
+
+
+def uncertainty_record(r: SplitResult) -> dict:
+    """The uncertainties used and each input's share of the kappa_L uncertainty (run.json)."""
+    rel = np.abs(r.kappa_L)
+    budget = {}
+    for q, parts in r.budget.items():
+        budget[q] = {part: {"median_percent_of_kappa_L": 100 * float(np.median(v / rel)),
+                            "max_percent_of_kappa_L": 100 * float(np.max(v / rel))}
+                     for part, v in parts.items()}
+    return {
+        "systematic": r.uncertainty, "random": r.uncertainty_random,
+        "defaults": {"systematic": DEFAULT_UNCERTAINTY, "random": DEFAULT_RANDOM},
+        "meaning": "relative 1-sigma; systematic: one draw per quantity shared by all "
+                   "temperatures (calibration, geometry); random: independent per row",
+        "kappa_L_err_parts_median_percent": {
+            "systematic": 100 * float(np.median(r.kappa_L_err_systematic / rel)),
+            "random": 100 * float(np.median(r.kappa_L_err_random / rel)),
+            "total": 100 * float(np.median(r.kappa_L_err / rel))},
+        "budget_linear_propagation": budget,
+    }
+
+
+@common.handles_errors(command="split")
+def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, window_text,
+         nan, draws, seed, number_density, sound_velocity, config) -> None:
+    # 1. validate every option and the data before anything is written
+    opts = parse_options(lorenz, scattering_exponent, uncertainty, window_text, nan, draws,
+                         seed, number_density, sound_velocity)
+    inputs = [*data, *([config] if config is not None else [])]
+    out = Path(out) if out is not None else default_out(data[0], "split")
+    check_out(out, force=force, inputs=inputs)
+    m = read_measurements(data, nan=nan, composition=composition)
+    check_seebeck(m, opts.lorenz, ", ".join(p.name for p in data))
+    r = compute(m, opts)
     lines = summary_lines(r, m)
     from kappa.presentation.split import plot_split
 
@@ -366,17 +356,15 @@ def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty
     record = run_record(
         "split",
         inputs=inputs,
-        options={"files": [str(p) for p in data], "lorenz": model,
-                 "scattering_exponent": scattering_exponent, "composition": composition,
-                 "uncertainty": r.uncertainty, "uncertainty_defaults": DEFAULT_UNCERTAINTY,
-                 "fit_window_K": list(window) if window else "automatic", "nan": nan,
-                 "draws": draws, "seed": seed, "number_density_per_m3": n_density,
-                 "sound_velocities_m_per_s": velocities,
-                 "config": None if config is None else str(config)},
+        options={"files": [str(p) for p in data], **opts.record(), "composition": composition,
+                 "config": None if config is None else str(config),
+                 "uncertainty": r.uncertainty, "uncertainty_random": r.uncertainty_random,
+                 "uncertainty_defaults": DEFAULT_UNCERTAINTY},
+        uncertainty=uncertainty_record(r),
         measurements={"sources": m.sources, "heat_capacity": m.heat_capacity_source,
                       "dropped_rows": list(m.dropped), "notes": list(m.notes),
                       "rows": int(r.temperature.size)},
-        derived=_derived(r),
+        derived=derived_record(r),
         summary=lines,
         citations=list(r.citations),
         caution=common.CAUTION,
@@ -389,6 +377,11 @@ def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty
         fig.savefig(tmp / "split.svg")
         write_json(tmp / "run.json", record)
     # 3. terminal report
+    print_report(r, lines)
+    typer.echo(f"Wrote {out}/ (split.csv, split.png, split.svg, run.json)")
+
+
+def print_report(r: SplitResult, lines: list[str]) -> None:
     headers = ["T [K]", "L [1e-8 W Ohm/K^2]", "kappa", "kappa_e", "kappa_L",
                "kappa_L 68%", "zT", "flags"]
     rows = []
@@ -403,10 +396,9 @@ def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty
     common.print_table(headers, rows)
     for line in lines:
         typer.echo(line)
-    typer.echo(f"Wrote {out}/ (split.csv, split.png, split.svg, run.json)")
 
 
-def _derived(r: SplitResult) -> dict:
+def derived_record(r: SplitResult) -> dict:
     d: dict = {"lorenz_model": r.lorenz_model}
     b = r.bipolar
     if b is not None:

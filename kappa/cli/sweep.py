@@ -33,6 +33,16 @@ Examples:
 
   kappa sweep my.yaml --vary material.gruneisen=1.0,1.5,2.0 -o gamma
 
+With --fit FIT.json (the record 'kappa fit' wrote with the fitted.yaml being swept) every point
+gets a 68 % interval from the fit's covariance: sweep.csv adds kappa_L_low, kappa_L_high,
+kappa_L_ratio_low, kappa_L_ratio_high (the ratio to the fitted sample, per draw) and pinned
+(0 where the interval of the change includes no change or spans more than a factor of two:
+the data do not pin that answer); the figure shows bands (one key) or hatches unpinned
+regions (maps). --draws parameter sets (default 200) per grid point:
+
+  kappa sweep fit1/fitted.yaml --fit fit1/fit.json
+      --vary scattering.boundary.grain_size=10nm:10um:31:log --at 300K -o grains-what-if
+
 Sweeps above 10^8 points need --yes.
 
 {common.CAUTION}
@@ -53,6 +63,12 @@ def sweep_command(
                                              "folder beside the config).")] = None,
     force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")] = False,
     yes: Annotated[bool, typer.Option("--yes", help="Allow sweeps above 10^8 points.")] = False,
+    fit: Annotated[Path | None, typer.Option("--fit", help="fit.json written by 'kappa fit' "
+                                             "for this config: 68 % intervals at every point.",
+                                             exists=True, dir_okay=False)] = None,
+    draws: Annotated[int, typer.Option("--draws", help="Parameter sets drawn for --fit "
+                                       "(50 to 100,000).")] = 200,
+    seed: Annotated[int, typer.Option("--seed", min=0, help="Seed of the --fit draws.")] = 0,
 ) -> None:
     from kappa.cli.run import Run
     from kappa.errors import ConfigError
@@ -89,7 +105,16 @@ def sweep_command(
         axes = list(check_axes(model, axes))
     except ConfigError as exc:
         raise exc.renamed(f"--vary {exc.key}" if exc.key in seen else exc.key) from None
-    run = Run("sweep", out, force=force, inputs=[config])
+    cov = None
+    if fit is not None:
+        from kappa.cli.whatif import load_fit
+
+        cov = load_fit(fit, model)
+        if points * draws > MAX_POINTS and not yes:
+            raise ConfigError("--draws", draws, f"{points:,} points × {draws} draws is more "
+                              f"than {MAX_POINTS:,} κ_L values; give fewer draws or points, "
+                              "or --yes")
+    run = Run("sweep", out, force=force, inputs=[config, *([fit] if fit else [])])
 
     t0 = time.perf_counter()
     result = sweep(model, axes, T, progress=common.Bar("sweep"), allow_large=yes)
@@ -99,6 +124,20 @@ def sweep_command(
 
     fig = plot_sweep(result)
     names = axis_columns(axes)
+    answers = None
+    if cov is not None:
+        from kappa.presentation.whatif import add_sweep_intervals
+        from kappa.workflows.whatif import what_if
+
+        grids = np.meshgrid(*[a.values for a in axes], indexing="ij")
+        try:
+            answers = what_if(model, cov, {a.key: g.ravel() for a, g in
+                                           zip(axes, grids, strict=True)}, T, draws=draws,
+                              seed=seed, progress=common.Bar("intervals"))
+        except ConfigError as exc:
+            raise exc.renamed({"draws": "--draws", "seed": "--seed"}.get(exc.key, exc.key)
+                              ) from None
+        add_sweep_intervals(fig, result, answers)
     derived = dict(derived_lines(model))
     run.record(
         config=str(config),
@@ -115,17 +154,53 @@ def sweep_command(
         model_si=model_summary(model),
         citations=result.citations,
     )
+    if answers is not None:
+        from kappa.cli.whatif import record as what_if_record
+
+        run.record(what_if=what_if_record(answers, fit, seed))
     long = result.long_form()
     columns = [(n, a.parameter.shown(long[a.key])) for a, n in zip(axes, names, strict=True)]
     columns += [("T [K]", long["temperature"]), ("kappa_L [W/(m K)]", long["kappa_L"]),
                 ("kappa_L_ratio [1]", long["kappa_L_ratio"])]
+    if answers is not None:
+        columns += [("kappa_L_low [W/(m K)]", answers.low.ravel()),
+                    ("kappa_L_high [W/(m K)]", answers.high.ravel()),
+                    ("kappa_L_ratio_low [1]", answers.ratio_low.ravel()),
+                    ("kappa_L_ratio_high [1]", answers.ratio_high.ravel()),
+                    ("pinned [1]", answers.pinned.ravel().astype(int))]
     run.table("sweep.csv", columns)
     run.figure("sweep", fig)
     run.finish(report=False)
     for key, text in derived.items():
         common.echo_err(f"derived: {key} = {text}")
     _summary(result, names, elapsed)
+    if answers is not None:
+        _answers(result, answers, names)
     typer.echo(f"wrote {run.out}/ ({', '.join(run.outputs)})")
+
+
+def _answers(result, w, names: list[str]) -> None:
+    from kappa.cli.whatif import print_flags
+    from kappa.presentation.sweep import pick
+
+    axes = result.axes
+    typer.echo(f"\n68 % intervals from the fit ({w.draws} parameter sets); ratio to the fitted "
+               "sample:")
+    grids = np.meshgrid(*[a.shown for a in axes], indexing="ij")
+    labels = [", ".join(f"{n.split(' [')[0]}={g.ravel()[i]:.4g}"
+                        + ("" if a.unit in ("1", "") else f" {a.unit}")
+                        for n, a, g in zip(names, axes, grids, strict=True))
+              for i in range(w.size)]
+    rows = []
+    for i in pick(w.size, 12):
+        for t in pick(w.temperature.size, 3):
+            rows.append([labels[i], w.temperature[t],
+                         f"{w.kappa_L[i, t]:.4g} ({w.low[i, t]:.4g} .. {w.high[i, t]:.4g})",
+                         f"{w.ratio[i, t]:.4g} ({w.ratio_low[i, t]:.4g} .. "
+                         f"{w.ratio_high[i, t]:.4g})", "yes" if w.pinned[i, t] else "NO"])
+    common.print_table(["point", "T [K]", "kappa_L (68 %)", "ratio (68 %)", "pinned"], rows,
+                       max_rows=36)
+    print_flags(w, labels, most=6)
 
 
 def _summary(result, names: list[str], elapsed: float) -> None:

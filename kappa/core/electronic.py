@@ -10,8 +10,9 @@ Models of the Lorenz number
     Sommerfeld value L0 = (pi^2/3)(k_B/e)^2 = 2.443e-8 W Ohm K^-2 (metals, heavily degenerate
     semiconductors).
 ``nondegenerate``
-    2 (k_B/e)^2 = 1.485e-8 W Ohm K^-2, the non-degenerate limit of a single parabolic band with
-    acoustic-phonon scattering.
+    (2 + lambda)(k_B/e)^2, the non-degenerate limit (eta -> -inf) of a single parabolic band with
+    tau proportional to E^(lambda - 1/2): 2 (k_B/e)^2 = 1.485e-8 W Ohm K^-2 for acoustic phonons
+    (lambda = 0), 4 (k_B/e)^2 = 2.970e-8 for ionized impurities (lambda = 2).
 ``spb``
     Single parabolic band (SPB) with a relaxation time tau proportional to E^(lambda - 1/2);
     the scattering exponent lambda is 0 for acoustic phonons (the default), 1 for polar optical
@@ -30,6 +31,10 @@ Models of the Lorenz number
 a number
     A user constant in W Ohm K^-2.
 
+Each model is made for a regime: ``degenerate`` for metals and degenerate semiconductors
+(|S| below about 100 uV/K, :data:`DEGENERATE_SEEBECK_LIMIT`), ``kim`` for acoustic-phonon
+scattering (lambda = 0). :func:`lorenz_regime_warnings` says when a choice is used outside it.
+
 The electronic thermal conductivity is kappa_e = L sigma T (Wiedemann-Franz law).
 """
 
@@ -42,6 +47,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from kappa.core.constants import e, k_B
+from kappa.core.fermi_dirac import fermi_dirac_integral
 from kappa.errors import DataError
 
 __all__ = [
@@ -49,6 +55,9 @@ __all__ = [
     "LORENZ_DEGENERATE",
     "LORENZ_NONDEGENERATE",
     "LORENZ_MODELS",
+    "DEGENERATE_SEEBECK_LIMIT",
+    "lorenz_nondegenerate",
+    "lorenz_regime_warnings",
     "fermi_dirac_integral",
     "spb_seebeck",
     "spb_lorenz",
@@ -66,107 +75,14 @@ K_B_OVER_E: float = k_B / e
 #: Sommerfeld value (pi^2/3)(k_B/e)^2 [W Ohm K^-2]
 LORENZ_DEGENERATE: float = math.pi**2 / 3.0 * K_B_OVER_E**2
 #: Non-degenerate single-band value for acoustic phonon scattering, 2 (k_B/e)^2 [W Ohm K^-2]
+#: (other scattering exponents: :func:`lorenz_nondegenerate`)
 LORENZ_NONDEGENERATE: float = 2.0 * K_B_OVER_E**2
 #: The named Lorenz models (a number is also accepted where a model is asked for).
 LORENZ_MODELS: tuple[str, ...] = ("spb", "degenerate", "nondegenerate", "kim")
-
-# --- Fermi-Dirac integrals -------------------------------------------------------------------
-#
-# F_j(eta) = int_0^inf eps^j / (1 + exp(eps - eta)) d eps  for j > -1, by fixed-order quadrature:
-#   eta <= _ETA_SWITCH: Gauss-Jacobi on [0, 1] (absorbs the eps^j end point), then 16-point
-#     Gauss-Legendre panels of width 4 up to eps = _EPS_MAX (the integrand beyond is below
-#     1e-40 of the integral). The Fermi factor's poles lie pi off the real axis, so panels of
-#     width 4 converge to about 1e-16.
-#   eta > _ETA_SWITCH: the exact rearrangement
-#     F_j = eta^(j+1)/(j+1) + int_0^inf [(eta+u)^j - (eta-u)^j] / (1 + e^u) du,
-#     with the u-integral over [0, _U_MAX] (its tail is below e^-50 of the integral); the
-#     integrand is smooth there because eta - u > 10.
-
-_PANEL_NODES = 16
-_PANEL_WIDTH = 4.0
-_EPS_MAX = 113.0
-_ETA_SWITCH = 60.0
-_U_MAX = 50.0
-
-
-@functools.lru_cache(maxsize=64)
-def _direct_nodes(j: float) -> tuple[np.ndarray, np.ndarray]:
-    """Nodes eps_k and weights w_k with sum w_k g(eps_k) = int_0^_EPS_MAX eps^j g(eps) d eps."""
-    from scipy.special import roots_jacobi, roots_legendre
-
-    xj, wj = roots_jacobi(_PANEL_NODES + 8, 0.0, j)
-    eps0 = 0.5 * (1.0 + xj)
-    w0 = wj * 0.5 ** (j + 1.0)  # the eps^j weight is carried by the Jacobi rule
-    xl, wl = roots_legendre(_PANEL_NODES)
-    starts = np.arange(1.0, _EPS_MAX, _PANEL_WIDTH)
-    half = 0.5 * _PANEL_WIDTH
-    eps1 = (starts[:, None] + half * (1.0 + xl[None, :])).ravel()
-    w1 = np.tile(half * wl, len(starts)) * eps1**j
-    return np.concatenate([eps0, eps1]), np.concatenate([w0, w1])
-
-
-@functools.lru_cache(maxsize=1)
-def _u_nodes() -> tuple[np.ndarray, np.ndarray]:
-    from scipy.special import roots_legendre
-
-    xl, wl = roots_legendre(_PANEL_NODES)
-    starts = np.arange(0.0, _U_MAX, _PANEL_WIDTH)
-    half = 0.5 * _PANEL_WIDTH
-    u = (starts[:, None] + half * (1.0 + xl[None, :])).ravel()
-    return u, np.tile(half * wl, len(starts))
-
-
-def _fermi(x: np.ndarray) -> np.ndarray:
-    """1/(1 + e^x) without overflow or cancellation."""
-    t = np.exp(-np.abs(x))
-    return np.where(x > 0.0, t, 1.0) / (1.0 + t)
-
-
-def fermi_dirac_integral(j: float, eta: ArrayLike) -> np.ndarray:
-    """Complete Fermi-Dirac integral without the Gamma-function normalisation.
-
-    F_j(eta) = int_0^inf eps^j / (1 + exp(eps - eta)) d eps  (equal to -Gamma(j+1) Li_{j+1}(-e^eta)).
-
-    Parameters
-    ----------
-    j : float
-        Order, j > -1.
-    eta : array_like
-        Reduced Fermi level E_F/(k_B T) [1], finite.
-
-    Returns
-    -------
-    numpy.ndarray
-        F_j(eta) [1], same shape as ``eta``; relative accuracy about 1e-13 for -700 < eta < 1e5.
-    """
-    j = float(j)
-    if not j > -1.0:
-        raise ValueError(f"fermi_dirac_integral: order j = {j} must be > -1")
-    eta = np.asarray(eta, dtype=float)
-    flat = eta.ravel()
-    out = np.empty_like(flat)
-    low = flat <= _ETA_SWITCH
-    if np.any(low):
-        eps, w = _direct_nodes(j)
-        el = flat[low]
-        pos = el >= 0.0
-        vals = np.empty_like(el)
-        if np.any(pos):
-            vals[pos] = _fermi(eps[None, :] - el[pos, None]) @ w
-        if np.any(~pos):
-            # eta < 0: factor e^eta out so that nothing underflows before the sum.
-            en = el[~pos, None]
-            vals[~pos] = (np.exp(-eps[None, :]) / (1.0 + np.exp(en - eps[None, :])) @ w) \
-                * np.exp(el[~pos])
-        out[low] = vals
-    high = ~low
-    if np.any(high):
-        u, w = _u_nodes()
-        eh = flat[high][:, None]
-        g = ((eh + u) ** j - (eh - u) ** j) * _fermi(u)[None, :]
-        out[high] = flat[high] ** (j + 1.0) / (j + 1.0) + g @ w
-    return out.reshape(eta.shape)
-
+#: |S| [V/K] above which the degenerate (Sommerfeld) Lorenz number is used outside its regime:
+#: at 100 uV/K the single parabolic band (acoustic phonons) gives L about 25 % below it
+#: (common practice, no single source).
+DEGENERATE_SEEBECK_LIMIT: float = 100e-6
 
 # --- single parabolic band -------------------------------------------------------------------
 
@@ -379,6 +295,77 @@ def lorenz_kim(seebeck: ArrayLike) -> np.ndarray:
     return (1.5 + np.exp(-s / 116e-6)) * 1e-8
 
 
+def lorenz_nondegenerate(scattering_exponent: float = 0.0) -> float:
+    """Non-degenerate limit of the single-parabolic-band Lorenz number, (2 + lambda)(k_B/e)^2.
+
+    The limit of :func:`spb_lorenz` for eta -> -inf (Boltzmann statistics): with
+    F_j(eta) -> Gamma(j + 1) e^eta the bracket becomes (1+lambda)(3+lambda)Gamma(1+lambda)
+    Gamma(3+lambda) - (2+lambda)^2 Gamma(2+lambda)^2 over (1+lambda)^2 Gamma(1+lambda)^2,
+    which is 2 + lambda.
+
+    Parameters
+    ----------
+    scattering_exponent : float
+        lambda in tau proportional to E^(lambda - 1/2): 0 acoustic phonons (2 (k_B/e)^2),
+        1 polar optical (3 (k_B/e)^2), 2 ionized impurities (4 (k_B/e)^2).
+
+    Returns
+    -------
+    float
+        L [W Ohm K^-2].
+    """
+    lam = _check_exponent(scattering_exponent)
+    return (2.0 + lam) * K_B_OVER_E**2
+
+
+def lorenz_regime_warnings(model: str | float, seebeck: ArrayLike | None = None,
+                           scattering_exponent: float = 0.0) -> list[str]:
+    """Plain-words warnings when a Lorenz model is used outside the regime it was made for.
+
+    * ``kim`` with a scattering exponent other than 0: the approximation of Kim et al. was
+      fitted to the single parabolic band with acoustic-phonon scattering (lambda = 0) and does
+      not follow lambda;
+    * ``degenerate`` with |S| above :data:`DEGENERATE_SEEBECK_LIMIT`: the Sommerfeld value
+      holds for metals and degenerate semiconductors; at larger |S| the carriers are not
+      degenerate and L is smaller.
+
+    Parameters
+    ----------
+    model : str or float
+        The Lorenz model (see the module docstring) or a constant.
+    seebeck : array_like, optional
+        Seebeck coefficient [V/K] (sign ignored; NaN ignored).
+    scattering_exponent : float
+        lambda in tau proportional to E^(lambda - 1/2).
+
+    Returns
+    -------
+    list of str
+    """
+    out: list[str] = []
+    lam = float(scattering_exponent)
+    if model == "kim" and lam != 0.0:
+        out.append(f"the Lorenz model kim approximates the single parabolic band with "
+                   f"acoustic-phonon scattering (lambda = 0) and ignores the scattering exponent "
+                   f"lambda = {lam:g}; use spb to follow lambda")
+    if model == "degenerate" and seebeck is not None:
+        s = np.abs(np.asarray(seebeck, dtype=float))
+        s = s[np.isfinite(s)]
+        if s.size and float(s.max()) > DEGENERATE_SEEBECK_LIMIT:
+            top = float(s.max())
+            try:
+                spb = (f", where the single parabolic band gives "
+                       f"{float(lorenz_spb(top, lam)):.4g} W Ohm/K^2")
+            except DataError:  # |S| beyond any band solution: the unit check reports it
+                spb = ""
+            out.append(f"the degenerate Lorenz number (pi^2/3)(k_B/e)^2 = "
+                       f"{LORENZ_DEGENERATE:.4g} W Ohm/K^2 holds for metals and degenerate "
+                       f"semiconductors (|S| below about {DEGENERATE_SEEBECK_LIMIT * 1e6:.0f} "
+                       f"uV/K); |S| reaches {top * 1e6:.4g} uV/K here{spb}: kappa_e is "
+                       "overstated and kappa_L understated; consider spb or kim")
+    return out
+
+
 def lorenz_number(model: str | float, seebeck: ArrayLike | None = None,
                   scattering_exponent: float = 0.0) -> np.ndarray:
     """Lorenz number for a named model or a constant.
@@ -390,7 +377,8 @@ def lorenz_number(model: str | float, seebeck: ArrayLike | None = None,
     seebeck : array_like, optional
         Seebeck coefficient [V/K]; needed by ``spb`` and ``kim``, and sets the output shape.
     scattering_exponent : float
-        lambda for ``spb`` (0 acoustic phonons).
+        lambda for ``spb`` and ``nondegenerate`` (0 acoustic phonons); ``kim``, ``degenerate``
+        and constants do not depend on it.
 
     Returns
     -------
@@ -406,7 +394,7 @@ def lorenz_number(model: str | float, seebeck: ArrayLike | None = None,
     if model == "degenerate":
         return np.full(shape, LORENZ_DEGENERATE)
     if model == "nondegenerate":
-        return np.full(shape, LORENZ_NONDEGENERATE)
+        return np.full(shape, lorenz_nondegenerate(scattering_exponent))
     if model in ("spb", "kim"):
         if seebeck is None:
             raise DataError("S", "missing", f"the Seebeck coefficient is needed for lorenz={model}")

@@ -9,19 +9,20 @@ those, and writes the results back as a config (``fitted.yaml``) and a record of
 from __future__ import annotations
 
 import json
-import re
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 
 from kappa.core.model import Model
-from kappa.errors import ConfigError, DataError, KappaError
+from kappa.errors import ConfigError, DataError, KappaError, warn
 from kappa.io.config import Config, config_from_dict, load_config, set_value, write_values
+from kappa.io.series import Note, load_series_file, notes_for_keys, parse_notes
 from kappa.io.units import parse_quantity, parse_window
 from kappa.workflows.fitting import Covariance, FitData, FitResult, SeriesSample, fit_data
+from kappa.workflows.fitting.data import ERROR_MODES
 
 __all__ = [
     "FIT_ALIASES",
@@ -40,9 +41,9 @@ FIT_ALIASES = {
     "kappa_L": ("kappa_lattice", "kappaL", "k_L", "kappa_lat"),
     "kappa_L_err": ("kappa_L_sigma", "kappa_L_unc", "kappa_L_error", "dkappa_L",
                     "kappa_L_uncertainty"),
+    "kappa_L_err_systematic": ("kappa_L_err_sys", "kappa_L_sys"),
+    "kappa_L_err_random": ("kappa_L_err_rand", "kappa_L_rand"),
 }
-
-_NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._+-]*$")
 
 
 def _fit_columns(table):
@@ -61,14 +62,23 @@ def _fit_columns(table):
 
 
 def read_fit_data(path: str | Path, *, window: tuple[float, float] | None = None,
-                  nan: str = "raise", name: str | None = None) -> FitData:
+                  nan: str = "raise", name: str | None = None, errors: str = "auto") -> FitData:
     """Read a CSV with ``T [K]`` and ``kappa_L [W/(m K)]`` (units converted) for a fit.
 
-    Uncertainties are taken from ``kappa_L_err`` or, failing that, from half the width of
-    ``kappa_L_low``..``kappa_L_high`` (the 68 % band that ``kappa split`` writes).
+    ``errors`` (:data:`~kappa.workflows.fitting.data.ERROR_MODES`) chooses the uncertainty
+    columns: ``separate`` uses ``kappa_L_err_random`` as point-to-point noise and
+    ``kappa_L_err_systematic`` as the width of one shared scale of the sample (the columns
+    ``kappa split`` writes); ``random`` the random column only; ``total`` ``kappa_L_err`` or,
+    failing that, half the width of ``kappa_L_low``..``kappa_L_high`` (the 68 % band), taken
+    as independent from point to point (``random`` falls back to the same columns when there is
+    no random column: the one uncertainty is then taken as point-to-point); ``none`` no
+    uncertainties. ``auto`` (default):
+    ``separate`` when both parts are there, else ``total`` with a warning, else ``none``.
     """
     from kappa.io.tables import read_table
 
+    if errors not in ERROR_MODES:
+        raise DataError("errors", errors, ", ".join(ERROR_MODES))
     table = _fit_columns(read_table(path))
     src = table.source
     if "T" not in table:
@@ -81,17 +91,57 @@ def read_fit_data(path: str | Path, *, window: tuple[float, float] | None = None
                         "the fit needs the lattice conductivity, e.g. 'kappa_L [W/(m K)]'" + hint)
     T = table.get("T", "K")
     k = table.get("kappa_L", "W/(m K)")
-    sigma, how = None, ""
-    if "kappa_L_err" in table:
-        sigma, how = table.get("kappa_L_err", "W/(m K)"), "kappa_L_err"
-    elif "kappa_L_low" in table and "kappa_L_high" in table:
-        lo, hi = table.get("kappa_L_low", "W/(m K)"), table.get("kappa_L_high", "W/(m K)")
-        if np.any(hi < lo):
-            raise DataError(f"{src}, column 'kappa_L_high'", "below kappa_L_low",
-                            "kappa_L_high must be >= kappa_L_low in every row")
-        sigma, how = 0.5 * (hi - lo), "kappa_L_low/kappa_L_high (half width)"
-    return fit_data(T, k, sigma, window=window, name=name or Path(path).stem, source=src,
-                    uncertainty_source=how, nan=nan)
+    unit = "W/(m K)"
+    has_parts = "kappa_L_err_systematic" in table and "kappa_L_err_random" in table
+    has_total = "kappa_L_err" in table or ("kappa_L_low" in table and "kappa_L_high" in table)
+    mode = errors
+    if errors == "auto":
+        mode = "separate" if has_parts else ("total" if has_total else "none")
+        if mode == "total":
+            warn(f"{src}: only a total uncertainty is given; the fit takes it as independent "
+                 "from point to point, but calibration and geometry errors are shared by all "
+                 "temperatures: then chi2_red comes out small and the parameter errors are "
+                 "misleading. 'kappa split' writes the systematic and random parts "
+                 "(kappa_L_err_systematic, kappa_L_err_random); --errors total accepts the "
+                 "total as independent")
+    sigma = systematic = None
+    how = ""
+    if mode == "random" and "kappa_L_err_random" not in table and has_total:
+        mode = "total"  # the one uncertainty given is taken as the random part
+        how_note = " (taken as the random part, --errors random)"
+    else:
+        how_note = ""
+    if mode in ("separate", "random"):
+        need = ("kappa_L_err_systematic", "kappa_L_err_random") if mode == "separate" else (
+            "kappa_L_err_random",)
+        missing = [c for c in need if c not in table]
+        if missing:
+            raise DataError(f"{src}", f"no column '{missing[0]} [...]'",
+                            f"--errors {mode} needs the column(s) {', '.join(need)} (written "
+                            "by 'kappa split'); or choose --errors total or none")
+        sigma, how = table.get("kappa_L_err_random", unit), "kappa_L_err_random"
+        if mode == "separate":
+            systematic = table.get("kappa_L_err_systematic", unit)
+            how += " (point to point) + kappa_L_err_systematic (shared scale)"
+    elif mode == "total":
+        if "kappa_L_err" in table:
+            sigma, how = table.get("kappa_L_err", unit), "kappa_L_err"
+        elif "kappa_L_low" in table and "kappa_L_high" in table:
+            lo, hi = table.get("kappa_L_low", unit), table.get("kappa_L_high", unit)
+            if np.any(hi < lo):
+                raise DataError(f"{src}, column 'kappa_L_high'", "below kappa_L_low",
+                                "kappa_L_high must be >= kappa_L_low in every row")
+            sigma, how = 0.5 * (hi - lo), "kappa_L_low/kappa_L_high (half width)"
+        else:
+            raise DataError(src, "no column 'kappa_L_err [...]'", "--errors total needs "
+                            "kappa_L_err (or kappa_L_low and kappa_L_high); or choose "
+                            "--errors none")
+    data = fit_data(T, k, sigma, systematic=systematic, window=window,
+                    name=name or Path(path).stem, source=src,
+                    uncertainty_source=how + how_note, nan=nan)
+    if how_note:
+        mode = "random"
+    return replace(data, errors=mode if data.errors != "none" else "none")
 
 
 def _parse_bounds(model: Model, key: str, text: str, option: str) -> tuple:
@@ -152,14 +202,11 @@ def _split_bounds(item: str) -> tuple[str, str]:
 
 # --- series files -----------------------------------------------------------------------------
 
-_SERIES_KEYS = ("config", "shared", "per_sample", "bounds", "window", "samples", "notes")
-_SAMPLE_KEYS = ("name", "data", "set", "window", "config")
-
 
 @dataclass(frozen=True)
 class Series:
     """A loaded series file: what :func:`~kappa.workflows.fitting.fit_series` needs, and the
-    configs and files it came from."""
+    configs, files and per-sample notes it came from."""
 
     samples: tuple[SeriesSample, ...]
     shared: tuple[str, ...]
@@ -168,6 +215,7 @@ class Series:
     bounds: dict[str, tuple]
     configs: dict[str, Config]
     files: tuple[Path, ...]
+    notes: dict[str, dict[str, Note]] = field(default_factory=dict)
 
 
 def _key_list(value: Any, key: str) -> list[str]:
@@ -181,10 +229,12 @@ def _key_list(value: Any, key: str) -> list[str]:
 
 
 def read_series(path: str | Path, *, nan: str = "raise",
-                extra_bounds: Sequence[str] = ()) -> Series:
-    """Read and validate a series file; load its configs and data.
+                extra_bounds: Sequence[str] = (), errors: str = "auto") -> Series:
+    """Read and validate a series file for a fit; load its configs and data.
 
-    Relative paths are relative to the series file's folder. Layout::
+    The file format is shared with ``kappa split --series`` (:mod:`kappa.io.series`); a fit
+    needs, per sample, ``data`` (T and kappa_L) and a config (``config`` at the top or per
+    sample). Relative paths are relative to the series file's folder. Layout::
 
         config: base.yaml
         shared: [material.gruneisen, scattering.umklapp.scale]
@@ -192,51 +242,31 @@ def read_series(path: str | Path, *, nan: str = "raise",
         bounds: {scattering.boundary.grain_size: "10 nm:1 mm"}   # optional
         window: 100K:700K                                        # optional, for every sample
         samples:
-          - {name: A, data: a.csv, set: {scattering.boundary.grain_size: 2 um}}
+          - {name: A, data: a.csv, set: {scattering.boundary.grain_size: 2 um},
+             notes: {grain_size: 1.8 um}}
           - {name: B, data: b.csv, window: 100K:500K, config: other.yaml}
-    """
-    from kappa.io.yamlfile import load_yaml
 
-    path = Path(path)
-    base = path.parent
-    data = load_yaml(path, what="series file")
-    if not isinstance(data, dict):
-        raise ConfigError("series", data, "must be a mapping with config, shared, per_sample, "
-                          "samples")
-    for k in data:
-        if k not in _SERIES_KEYS:
-            raise ConfigError(f"series.{k}", allowed="unknown key; allowed: "
-                              + ", ".join(_SERIES_KEYS))
+    ``errors`` chooses which uncertainty columns the fit uses (see :func:`read_fit_data`).
+    """
+    sf = load_series_file(path)
+    path, base, data = sf.path, sf.folder, sf.data
     shared = _key_list(data.get("shared"), "series.shared")
     per = _key_list(data.get("per_sample"), "series.per_sample")
     bounds = data.get("bounds") or {}
     if not isinstance(bounds, dict):
         raise ConfigError("series.bounds", bounds, "must be a mapping KEY: 'LOW:HIGH'")
     window = data.get("window")
-    items = data.get("samples")
-    if not isinstance(items, list) or not items:
-        raise ConfigError("series.samples", items, "must be a non-empty list of "
-                          "{name, data, set, window, config}")
     default_cfg = data.get("config")
     loaded: dict[str, Config] = {}
     configs: dict[str, Config] = {}
     samples, files = [], [path]
     keys = [str(k).partition("=")[0].strip() for k in (*shared, *per)]
     started = [str(k).partition("=")[0].strip() for k in per if "=" in str(k)]
-    for i, item in enumerate(items):
-        key = f"series.samples.{i}"
-        if not isinstance(item, dict):
-            raise ConfigError(key, item, "must be a mapping {name, data, ...}")
-        for k in item:
-            if k not in _SAMPLE_KEYS:
-                raise ConfigError(f"{key}.{k}", allowed="unknown key; allowed: "
-                                  + ", ".join(_SAMPLE_KEYS))
-        name = item.get("name")
-        if not isinstance(name, str) or not _NAME.match(name):
-            raise ConfigError(f"{key}.name", name, "a name of letters, digits, '.', '_', '+', "
-                              "'-' (used as a folder name)")
+    for entry in sf.entries:
+        key, item, name = entry.key, entry.item, entry.name
         if "data" not in item:
-            raise ConfigError(f"{key}.data", allowed="missing; the CSV file with T and kappa_L")
+            raise ConfigError(f"{key}.data", allowed="missing; the CSV file with T and kappa_L "
+                              "(e.g. the split.csv of 'kappa split')")
         cfg_name = item.get("config", default_cfg)
         if cfg_name is None:
             raise ConfigError("series.config", allowed="missing; the base config of the series "
@@ -275,13 +305,10 @@ def read_series(path: str | Path, *, nan: str = "raise",
             parsed_window = None if win is None else parse_window(str(win), where)
         except KappaError as exc:
             raise ConfigError.renamed(exc, where) from None
-        fdata = read_fit_data(data_path, window=parsed_window, nan=nan, name=name)
+        fdata = read_fit_data(data_path, window=parsed_window, nan=nan, name=name,
+                              errors=errors)
         samples.append(SeriesSample(name, cfg.model, fdata))
         configs[name] = cfg
-    names = [s.name for s in samples]
-    if len({n.lower() for n in names}) != len(names):
-        raise ConfigError("series.samples", ", ".join(names), "sample names must be unique "
-                          "(ignoring upper/lower case: they name output folders)")
     model = samples[0].model
     shared_keys, starts, parsed = parse_free(model, shared, {}, "series.shared")
     per_keys, per_starts, per_bounds = parse_free(model, per, {}, "series.per_sample")
@@ -294,8 +321,12 @@ def read_series(path: str | Path, *, nan: str = "raise",
     for item in extra_bounds:
         k, text = _split_bounds(item)
         parsed[k] = _parse_bounds(model, k, text, "--bounds")
+    # notes named like a per-sample key must have its dimension
+    units = notes_for_keys(per_keys, model)
+    notes = {e.name: parse_notes(e.item.get("notes"), f"{e.key}.notes", units)
+             for e in sf.entries}
     return Series(tuple(samples), tuple(shared_keys), tuple(per_keys), starts, parsed,
-                  configs, tuple(files))
+                  configs, tuple(files), notes)
 
 
 # --- fit records and fitted configs --------------------------------------------------------------
@@ -308,10 +339,19 @@ def fit_record(result: FitResult, sample: str | None = None) -> dict:
     matching block of the covariance (transformed space).
     """
     idx = [i for i, p in enumerate(result.parameters) if p.sample in (None, sample)]
+    scale = next((f for f in result.scales if f.sample == (sample or result.samples[0].name)),
+                 None)
     return {
         "kind": "kappa fit covariance",
         "sample": sample,
         "weighted": result.weighted,
+        "errors": result.errors,
+        "shared_scale": None if scale is None else {
+            "systematic_width": scale.width, "z": scale.z, "z_stderr": scale.z_stderr,
+            "factor": scale.factor, "low68": scale.low68, "high68": scale.high68,
+            "note": "the data's fitted calibration scale (a nuisance parameter); the "
+                    "covariance below is the parameters' block of the joint covariance, so "
+                    "draws from it include what the shared error does to them"},
         "n_points": result.n_points,
         "dof": result.dof,
         "parameters": [{"key": result.parameters[i].key, "space": result.spaces[i],

@@ -5,7 +5,7 @@ Object-API matplotlib through :func:`kappa.presentation.style.new_figure`; no py
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 import numpy as np
@@ -14,7 +14,7 @@ from kappa.presentation.style import KAPPA_L_LABEL, log_axes, mechanism_title, n
 from kappa.workflows.fitting import FitResult
 from kappa.workflows.predict import Prediction, predict
 
-__all__ = ["plot_fit", "add_band", "fit_curves"]
+__all__ = ["plot_fit", "add_band", "fit_curves", "plot_notes", "note_pairs"]
 
 
 def fit_curves(result: FitResult, points: int = 160) -> list[Prediction]:
@@ -50,6 +50,9 @@ def plot_fit(result: FitResult, curves: Sequence[Prediction], title: str = "") -
         ax, rax = axes[row, col], axes[row + 1, col]
         d = s.data
         ax.plot(curve.temperature, curve.kappa_L, color="black", lw=1.8, label="fit")
+        if s.scale_factor is not None:  # the data's fitted calibration scale, for the eye
+            ax.plot(d.temperature, s.kappa_L_fit * s.scale_factor, color="black", lw=0.8,
+                    ls=":", label="fit × fitted scale of the data")
         for key, k in curve.without.items():
             if np.all(np.isnan(k)):
                 continue
@@ -100,3 +103,69 @@ def add_band(ax: Any, temperature: np.ndarray, low: np.ndarray, high: np.ndarray
     ax.plot(temperature, high, color="tab:blue", lw=0.8)
     ax.legend(fontsize=8)
     return ax
+
+
+def note_pairs(result: FitResult, notes: Mapping[str, Mapping[str, Any]],
+               most: int = 9) -> list[tuple[str, str]]:
+    """(per-sample key, note name) pairs worth a panel: numeric notes of at least two fitted
+    samples, the note named like the key first (its 1:1 comparison)."""
+    keys = list(dict.fromkeys(p.key for p in result.parameters if p.sample is not None))
+    names: list[str] = []
+    for sample_notes in notes.values():
+        names += [n for n, note in sample_notes.items() if note.numeric and n not in names]
+    pairs = []
+    for key in keys:
+        for name in names:
+            have = [s for s in notes if name in notes[s] and notes[s][name].numeric
+                    and any(p.key == key and p.sample == s for p in result.parameters)]
+            if len(have) >= 2:
+                pairs.append((key, name))
+    pairs.sort(key=lambda kn: kn[0].rsplit(".", 1)[-1] != kn[1])
+    return pairs[:most]
+
+
+def plot_notes(result: FitResult, notes: Mapping[str, Mapping[str, Any]]) -> Any:
+    """Each per-sample fitted value against the sample's own note (one panel per pair of
+    :func:`note_pairs`), with its 68 % interval; the 1:1 line where the note is the same
+    quantity as the key (same name and unit). Returns the Figure."""
+    pairs = note_pairs(result, notes)
+    n = max(1, len(pairs))
+    ncols = min(n, 3)
+    nrows = (n + ncols - 1) // ncols
+    fig, axes = new_figure(4.4 * ncols, 3.8 * nrows, nrows=nrows, ncols=ncols)
+    for i, (key, name) in enumerate(pairs):
+        ax = axes[i // ncols, i % ncols]
+        fitted = [p for p in result.parameters if p.key == key and p.sample in notes
+                  and name in notes[p.sample] and notes[p.sample][name].numeric]
+        par = fitted[0]
+        note0 = notes[fitted[0].sample][name]
+        same = (key.rsplit(".", 1)[-1] == name and note0.unit == par.unit)
+        xs = np.array([par.shown(notes[p.sample][name].value) if same
+                       else notes[p.sample][name].shown for p in fitted], dtype=float)
+        ys = np.array([p.shown(p.value) for p in fitted])
+        lo = np.array([p.shown(p.low68) for p in fitted])
+        hi = np.array([p.shown(p.high68) for p in fitted])
+        ax.errorbar(xs, ys, yerr=[np.clip(ys - lo, 0, None), np.clip(hi - ys, 0, None)],
+                    fmt="o", ms=5, capsize=3, color="tab:blue", label="fit (68 %)")
+        for x, y, p in zip(xs, ys, fitted, strict=True):
+            ax.annotate(p.sample, (x, y), textcoords="offset points", xytext=(4, 4), fontsize=7)
+        unit_x = par.display if same else (note0.display if note0.display not in ("", "1")
+                                           else "1")
+        if same:
+            finite = np.concatenate([xs, lo, hi])
+            finite = finite[np.isfinite(finite) & (finite > 0)]
+            if finite.size:
+                a, b = float(finite.min()) / 1.5, float(finite.max()) * 1.5
+                ax.plot([a, b], [a, b], color="black", lw=0.8, ls="--", label="1:1")
+        positive = np.all(xs > 0) and np.all(ys > 0)
+        if positive and xs.max() / xs.min() > 10 and ys.max() / ys.min() > 10:
+            ax.set_xscale("log")
+            ax.set_yscale("log")
+        ax.set_xlabel(f"{name} (note) [{unit_x}]")
+        ax.set_ylabel(f"fitted {key.rsplit('.', 1)[-1]} [{par.display}]")
+        ax.set_title(key, fontsize=9)
+        ax.grid(True, which="both", alpha=0.3)
+        ax.legend(fontsize=7)
+    for j in range(len(pairs), nrows * ncols):
+        axes[j // ncols, j % ncols].set_visible(False)
+    return fig

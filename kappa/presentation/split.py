@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import fields, replace
 from typing import Any
 
@@ -11,7 +12,7 @@ from matplotlib.figure import Figure
 
 from kappa.workflows.split import SplitResult
 
-__all__ = ["plot_split", "plot_kappa", "plot_lorenz", "plot_zT"]
+__all__ = ["plot_split", "plot_kappa", "plot_lorenz", "plot_zT", "plot_series"]
 
 #: Most temperatures drawn; longer results are thinned evenly (a figure shows no more).
 MAX_POINTS = 2000
@@ -124,6 +125,47 @@ def plot_split(result: SplitResult, title: str = "") -> Figure:
     plot_zT(result, a3)
     a1.set_xlabel("")
     a2.set_xlabel("")
+    if title:
+        fig.suptitle(title, fontsize=10)
+    return fig
+
+
+def plot_series(results: Sequence[tuple[str, SplitResult]], title: str = "") -> Figure:
+    """A sample series on shared axes: kappa, kappa_L (68 % bands), kappa_e and zT.
+
+    One colour per sample; each result is thinned like :func:`plot_split`. Returns a new
+    Figure.
+    """
+    fig = Figure(figsize=(10.0, 7.6), layout="constrained")
+    FigureCanvasAgg(fig)
+    axes = fig.subplots(2, 2, sharex=True)
+    panels = [(axes[0, 0], "kappa", None, r"$\kappa$ measured [W/(m K)]"),
+              (axes[0, 1], "kappa_L", ("kappa_L_low", "kappa_L_high"),
+               r"$\kappa_L$ [W/(m K)] (68 % bands)"),
+              (axes[1, 0], "kappa_e", ("kappa_e_low", "kappa_e_high"),
+               r"$\kappa_e = L\sigma T$ [W/(m K)]"),
+              (axes[1, 1], "zT", ("zT_low", "zT_high"), "zT [1]")]
+    for n, (name, result) in enumerate(results):
+        r = _thinned(result)
+        color = f"C{n % 10}"
+        for ax, field_name, band, _ in panels:
+            y = getattr(r, field_name)
+            if y is None:
+                continue
+            ax.plot(r.temperature, y, "-", color=color, lw=1.6, marker="o" if
+                    r.temperature.size <= 30 else None, ms=3, label=name)
+            if band is not None:
+                ax.fill_between(r.temperature, getattr(r, band[0]), getattr(r, band[1]),
+                                color=color, alpha=0.15, lw=0)
+    for ax, _name, _, label in panels:
+        ax.set_ylabel(label)
+        ax.grid(True, alpha=0.3)
+        if not ax.lines:
+            ax.text(0.5, 0.5, "no Seebeck data: zT not computed", ha="center", va="center",
+                    transform=ax.transAxes)
+    for ax in axes[1]:
+        ax.set_xlabel("T [K]")
+    axes[0, 0].legend(fontsize=7)
     if title:
         fig.suptitle(title, fontsize=10)
     return fig

@@ -8,25 +8,29 @@ and writes no files.
 
 Uncertainty model (Monte Carlo, seeded)
 ---------------------------------------
-Each measured quantity q in (kappa, sigma, S) gets one Gaussian relative error per draw,
-q -> q (1 + u_q z_q), applied to *all* temperatures of the sample: the dominant errors of
-transport measurements (sample geometry, thermocouple and heat-loss calibration, contact
-placement) are systematic over a temperature run, not independent from row to row. An optional
-``L`` entry adds a relative error on the Lorenz number (model uncertainty; default 0). The
-defaults are the average uncertainties of an interlaboratory round robin, Alleno et al.,
-Rev. Sci. Instrum. 86, 011301 (2015): S 6 %, resistivity 8 %, kappa 11 %. The table reports the
-value computed from the nominal inputs and the central 68.27 % interval (the +-1 standard
-deviation band of a Gaussian) of the draws; ``kappa_L_err`` is half that interval's width.
-Because the errors are systematic, the marginal interval at each temperature is what a
-per-row model would give as well, but quantities that compare temperatures (the bipolar excess)
-see correlated errors, as they should.
+Each input q in (kappa, sigma, S, L) has a systematic and a random relative 1-sigma part
+(:mod:`kappa.workflows.uncertainty`): q -> q (1 + u_q z_q + r_q e_q,i), with one Gaussian z_q
+per draw applied to *all* temperatures of the sample (sample geometry, thermocouple and
+heat-loss calibration, contact placement are shared by a temperature run) and one e_q,i per row
+and draw (the repeatability of one reading). Defaults: the round-robin averages of Alleno et
+al., Rev. Sci. Instrum. 86, 011301 (2015) as systematic parts (S 6 %, resistivity 8 %,
+kappa 11 %) and small random parts (kappa 2 %, sigma and S 1 %; common practice). The Lorenz
+number's model error ``L`` is 0 by default. The table reports the value computed from the
+nominal inputs and the central 68.27 % interval (the +-1 standard deviation band of a
+Gaussian) of the draws; ``kappa_L_err`` is half that interval's width, and
+``kappa_L_err_systematic`` / ``kappa_L_err_random`` are the standard deviations of the same
+Monte Carlo with only the systematic or only the random parts drawn (the same numbers; L
+linearised in S about each row, so these parts are linear in Gaussian numbers and their
+standard deviation is the half width of their 68 % interval). A fit uses them apart: the random
+part as point-to-point noise, the systematic part as one shared scale of the sample. :func:`~kappa.workflows.uncertainty.linear_budget` gives each input's share
+(``SplitResult.budget``).
 
-Memory and time: the draws of the relative errors (4 x draws numbers) are made once, in the
-same order as always; the rows are then processed in chunks of at most
-:data:`CHUNK_VALUES` (row, draw) values, so memory does not grow with rows x draws (10^6 rows
-x 2,000 draws run in well under 1 GB). The bipolar check first computes its per-draw fit from
-the window rows, then streams the rows like the rest. Draws are limited to
-:data:`DRAW_RANGE`; the scattering exponent to :data:`EXPONENT_RANGE`.
+Memory and time: the systematic draws (4 x draws numbers) are made once, in the same order as
+always; the random numbers come per (quantity, row, draw) from seeded blocks of rows; the
+rows are processed in chunks of at most :data:`CHUNK_VALUES` (row, draw) values, so memory does
+not grow with rows x draws and the result does not depend on the chunk size. The bipolar check
+first computes its per-draw fit from the window rows, then streams the rows like the rest.
+Draws are limited to :data:`DRAW_RANGE`; the scattering exponent to :data:`EXPONENT_RANGE`.
 
 The bipolar check (A/T + B extrapolation, Goldsmid-Sharp gap) is in
 :mod:`kappa.workflows.bipolar`.
@@ -47,23 +51,31 @@ from kappa.core.electronic import (
     figure_of_merit,
     lorenz_kim,
     lorenz_number,
+    lorenz_regime_warnings,
     lorenz_spb,
 )
 from kappa.core.limits import cahill_minimum
 from kappa.errors import DataError, warn
 from kappa.workflows.bipolar import BipolarCheck, bipolar_check, window_rows
 from kappa.workflows.measurements import Measurements, measurements_from_arrays
+from kappa.workflows.split_draws import INTERVAL, Draws, intervals, window_fits
+from kappa.workflows.uncertainty import (
+    DEFAULT_RANDOM,
+    DEFAULT_SYSTEMATIC,
+    linear_budget,
+    resolve_uncertainty,
+)
 
 __all__ = ["split", "split_measurements", "SplitResult", "BipolarCheck",
-           "DEFAULT_UNCERTAINTY", "UNCERTAINTY_KEYS", "INTERVAL", "DRAW_RANGE",
-           "EXPONENT_RANGE", "CHUNK_VALUES"]
+           "DEFAULT_UNCERTAINTY", "DEFAULT_RANDOM", "UNCERTAINTY_KEYS", "INTERVAL",
+           "DRAW_RANGE", "EXPONENT_RANGE", "CHUNK_VALUES"]
 
-#: Default relative uncertainties (Alleno et al., Rev. Sci. Instrum. 86, 011301 (2015)).
-DEFAULT_UNCERTAINTY: dict[str, float] = {"kappa": 0.11, "sigma": 0.08, "S": 0.06, "L": 0.0}
+#: Default systematic relative uncertainties (Alleno et al., Rev. Sci. Instrum. 86, 011301
+#: (2015)); the random parts are :data:`DEFAULT_RANDOM`.
+DEFAULT_UNCERTAINTY: dict[str, float] = DEFAULT_SYSTEMATIC
 #: Accepted keys of the uncertainty mapping (``resistivity`` and ``electrical_conductivity``
 #: are aliases of ``sigma``, the electrical conductivity as in the CSV column names).
 UNCERTAINTY_KEYS: tuple[str, ...] = ("kappa", "sigma", "resistivity", "S", "L")
-_SIGMA_ALIASES = ("resistivity", "electrical_conductivity")
 #: Allowed number of Monte Carlo draws (fewer gives noisy bands; more only costs time).
 DRAW_RANGE: tuple[int, int] = (100, 100_000)
 #: Allowed scattering exponent lambda of the single-parabolic-band Lorenz number
@@ -72,8 +84,6 @@ DRAW_RANGE: tuple[int, int] = (100, 100_000)
 EXPONENT_RANGE: tuple[float, float] = (-0.9, 4.0)
 #: Most (row, draw) values the Monte Carlo holds at once per array.
 CHUNK_VALUES: int = 1_000_000
-#: Probability content of the reported interval (+-1 sigma of a Gaussian).
-INTERVAL: float = math.erf(1.0 / math.sqrt(2.0))
 
 CITATIONS = {
     "wf": "Wiedemann-Franz law kappa_e = L sigma T",
@@ -108,7 +118,11 @@ class SplitResult:
     kappa_L, kappa_L_low, kappa_L_high : numpy.ndarray
         Lattice part kappa - kappa_e (bipolar included) [W/(m K)].
     kappa_L_err : numpy.ndarray
-        Half the width of the 68 % interval of kappa_L [W/(m K)] (for weighting fits).
+        Half the width of the 68 % interval of kappa_L [W/(m K)], both parts drawn.
+    kappa_L_err_systematic, kappa_L_err_random : numpy.ndarray
+        The standard deviation of kappa_L with only the systematic (shared by all
+        temperatures) or only the random (point to point) parts drawn [W/(m K)]; a fit uses
+        them apart.
     zT, zT_low, zT_high : numpy.ndarray or None
         Figure of merit [1] (None without S).
     kappa_L_degenerate, kappa_L_kim : numpy.ndarray or None
@@ -126,7 +140,12 @@ class SplitResult:
     bipolar : BipolarCheck or None
         The bipolar check (None with fewer than 5 rows).
     uncertainty : dict
-        Relative uncertainties used (keys kappa, sigma, S, L).
+        Systematic relative uncertainties used (keys kappa, sigma, S, L).
+    uncertainty_random : dict
+        Random relative uncertainties used (same keys).
+    budget : dict
+        Linear propagation of each input and part to kappa_L:
+        ``{quantity: {"systematic": array, "random": array}}`` [W/(m K)] per row.
     draws, seed : int
         Monte Carlo draws and seed.
     citations : tuple of str
@@ -149,6 +168,8 @@ class SplitResult:
     kappa_L_low: np.ndarray
     kappa_L_high: np.ndarray
     kappa_L_err: np.ndarray
+    kappa_L_err_systematic: np.ndarray
+    kappa_L_err_random: np.ndarray
     zT: np.ndarray | None
     zT_low: np.ndarray | None
     zT_high: np.ndarray | None
@@ -160,26 +181,12 @@ class SplitResult:
     below_minimum: np.ndarray | None
     bipolar: BipolarCheck | None
     uncertainty: dict[str, float]
+    uncertainty_random: dict[str, float]
+    budget: dict[str, dict[str, np.ndarray]]
     draws: int
     seed: int
     citations: tuple[str, ...] = ()
     notes: tuple[str, ...] = field(default_factory=tuple)
-
-
-def _resolve_uncertainty(uncertainty: Mapping[str, float] | None) -> dict[str, float]:
-    out = dict(DEFAULT_UNCERTAINTY)
-    for key, value in (uncertainty or {}).items():
-        if key not in UNCERTAINTY_KEYS and key not in _SIGMA_ALIASES:
-            raise DataError("uncertainty", key, f"keys allowed: {', '.join(UNCERTAINTY_KEYS)}")
-        v = float(value)
-        if not (0.0 <= v <= 0.5):
-            raise DataError(f"uncertainty {key}", value,
-                            "a relative uncertainty between 0 and 0.5 (e.g. 0.08 for 8 %)")
-        out["sigma" if key in _SIGMA_ALIASES else key] = v
-    if max(out.values()) > 0.25:
-        warn("relative uncertainties above 25 % make Gaussian draws near zero or negative "
-             "likely; the intervals are then only indicative")
-    return out
 
 
 def _lorenz_name(lorenz: str | float) -> str | float:
@@ -227,98 +234,22 @@ def _check_run(draws: object, seed: object, scattering_exponent: object) -> tupl
     return n, s, lam
 
 
+def _dlnL_dlnS(model: str | float, S: np.ndarray | None, lam: float, n: int) -> np.ndarray:
+    """d ln L / d ln |S| per row (central difference; 0 for models that ignore S)."""
+    if S is None or model not in ("spb", "kim"):
+        return np.zeros(n)
+    s = np.abs(S)
+    h = 1e-4
+    f = (lambda x: lorenz_spb(x, lam)) if model == "spb" else lorenz_kim
+    with np.errstate(divide="ignore", invalid="ignore"):
+        d = (np.log(f(s * (1 + h))) - np.log(f(s * (1 - h)))) / (math.log1p(h) - math.log1p(-h))
+    return np.where(np.isfinite(d), d, 0.0)
+
+
 def _temperatures(T: np.ndarray, shown: int = 8) -> str:
     """``300 K, 325 K, ...`` with at most ``shown`` values, then how many more."""
     text = ", ".join(f"{t:g} K" for t in T[:shown])
     return text + (f" and {T.size - shown} more" if T.size > shown else "")
-
-
-class _Draws:
-    """The Monte Carlo of the split, evaluated for any subset of rows.
-
-    The relative errors (one per quantity and draw, shared by all temperatures) are drawn once;
-    :meth:`rows` returns the per-draw arrays (rows, draws) of the rows asked for, computed with
-    exactly the same arithmetic for every row whichever subset it is in.
-    """
-
-    def __init__(self, m: Measurements, model: str | float, L: np.ndarray, lam: float,
-                 u: Mapping[str, float], draws: int, seed: int) -> None:
-        rng = np.random.default_rng(seed)
-        z = rng.standard_normal((4, draws))
-        self.f_k, self.f_s, self.f_S, self.f_L = (
-            (1.0 + u[key] * z[i])[None, :] for i, key in enumerate(("kappa", "sigma", "S", "L")))
-        self.m, self.model, self.L, self.lam = m, model, L, lam
-
-    def rows(self, idx: slice | np.ndarray, *, zT: bool = True) -> dict[str, np.ndarray]:
-        m = self.m
-        T = m.temperature[idx][:, None]
-        kappa_d = m.kappa[idx][:, None] * self.f_k
-        sigma_d = m.electrical_conductivity[idx][:, None] * self.f_s
-        S_d = None if m.seebeck is None else np.abs(m.seebeck[idx])[:, None] * self.f_S
-        if self.model == "spb":
-            L_d = lorenz_spb(S_d, self.lam)
-        elif self.model == "kim":
-            L_d = lorenz_kim(S_d)
-        else:
-            L_d = np.broadcast_to(self.L[idx][:, None], kappa_d.shape)
-        L_d = L_d * self.f_L
-        kappa_e_d = L_d * sigma_d * T
-        out = {"L": L_d, "kappa_e": kappa_e_d, "kappa_L": kappa_d - kappa_e_d}
-        if S_d is not None and zT:
-            out["zT"] = S_d**2 * sigma_d * T / kappa_d
-        return out
-
-
-def _chunks(n: int, draws: int) -> list[slice]:
-    step = max(1, CHUNK_VALUES // draws)
-    return [slice(a, min(n, a + step)) for a in range(0, n, step)]
-
-
-_QS = [(1.0 - INTERVAL) / 2.0, (1.0 + INTERVAL) / 2.0]
-
-
-def _intervals(mc: _Draws, n: int, draws: int, bipolar: tuple[np.ndarray, np.ndarray] | None,
-               progress: Callable[[int], None] | None) -> dict[str, np.ndarray]:
-    """68 % intervals (low, high) per row of every Monte Carlo quantity, chunk by chunk.
-
-    ``bipolar`` = (X, coef_d): the design matrix [1/T, 1] of all rows and the per-draw A/T + B
-    coefficients (2, draws); then the half width of the interval of the excess is returned as
-    ``mc``.
-    """
-    out: dict[str, np.ndarray] = {}
-    for chunk in _chunks(n, draws):
-        d = mc.rows(chunk)
-        if bipolar is not None:
-            X, coef_d = bipolar
-            q_lo, q_hi = np.quantile(d["kappa_L"] - X[chunk] @ coef_d, _QS, axis=1)
-            out.setdefault("mc", np.empty(n))[chunk] = 0.5 * (q_hi - q_lo)
-        for key, values in d.items():
-            lo, hi = np.quantile(values, _QS, axis=1)
-            out.setdefault(key + "_lo", np.empty(n))[chunk] = lo
-            out.setdefault(key + "_hi", np.empty(n))[chunk] = hi
-        del d
-        if progress is not None:
-            progress(chunk.stop)
-    return out
-
-
-def _window_fits(mc: _Draws, X: np.ndarray, window: np.ndarray, draws: int,
-                 progress: Callable[[int], None] | None) -> np.ndarray:
-    """A and B of kappa_L = A/T + B fitted on the window rows of every draw: (2, draws).
-
-    One product pinv(X_w) @ kappa_L_draws when the window fits in one chunk; otherwise the
-    same sum accumulated chunk by chunk (equal to rounding). ``progress(rows done)``.
-    """
-    rows = np.flatnonzero(window)
-    pinv = np.linalg.pinv(X[window])  # (2, rows)
-    if rows.size * draws <= CHUNK_VALUES:
-        return pinv @ mc.rows(rows, zT=False)["kappa_L"]
-    coef = np.zeros((2, draws))
-    for chunk in _chunks(rows.size, draws):
-        coef += pinv[:, chunk] @ mc.rows(rows[chunk], zT=False)["kappa_L"]
-        if progress is not None:
-            progress(chunk.stop)
-    return coef
 
 
 def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb",
@@ -339,7 +270,7 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
     if m.seebeck is None and model in ("spb", "kim"):
         raise DataError("S", "missing", f"a Seebeck column 'S [uV/K]' is needed for lorenz "
                         f"{model}; or choose degenerate, nondegenerate or a number")
-    u = _resolve_uncertainty(uncertainty)
+    parts = resolve_uncertainty(uncertainty)
     draws, seed, lam = _check_run(draws, seed, scattering_exponent)
     if (number_density is None) != (sound_velocities is None):
         raise DataError("number_density/sound_velocities", "only one given",
@@ -348,6 +279,9 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
     n = T.size
     notes: list[str] = []
     cites = [CITATIONS["wf"], CITATIONS["alleno"]]
+
+    for message in lorenz_regime_warnings(model, S, lam):
+        warn(message)
 
     # --- nominal values ----------------------------------------------------------------------
     eta = None
@@ -366,7 +300,8 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
     zT = figure_of_merit(S, sigma, kappa, T) if S is not None else None
 
     # --- Monte Carlo (one relative error per quantity and draw, all temperatures) -------------
-    mc = _Draws(m, model, L, lam, u, draws, seed)
+    slope = _dlnL_dlnS(model, S, lam, n)
+    mc = Draws(m, model, L, lam, parts, draws, seed, slope)
     check = n >= 5 or fit_window is not None
     bipolar_draws = None
     # progress in rows: the window rows of the bipolar check (when they need chunks), then all
@@ -386,8 +321,8 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
         X = np.column_stack([1.0 / T, np.ones_like(T)])
         coef, *_ = np.linalg.lstsq(X[window], kappa_L[window], rcond=None)
         # the same fit on every draw (correlated errors largely cancel in the excess)
-        bipolar_draws = (X, _window_fits(mc, X, window, draws, report(0)))
-    q = _intervals(mc, n, draws, bipolar_draws, report(ahead))
+        bipolar_draws = (X, window_fits(mc, X, window, draws, report(0), CHUNK_VALUES))
+    q = intervals(mc, n, draws, bipolar_draws, report(ahead), CHUNK_VALUES)
 
     # --- flags -----------------------------------------------------------------------------
     nonpositive = kappa_L <= 0
@@ -417,6 +352,7 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
         notes.append("fewer than 5 rows: bipolar check skipped")
 
     kl_lo, kl_hi = q["kappa_L_lo"], q["kappa_L_hi"]
+    budget = linear_budget(kappa, kappa_e, slope, parts)
     return SplitResult(
         temperature=T, kappa=kappa, electrical_conductivity=sigma, seebeck=S,
         lorenz_model=model if isinstance(model, str) else "constant",
@@ -424,10 +360,13 @@ def split_measurements(measurements: Measurements, *, lorenz: str | float = "spb
         kappa_e=kappa_e, kappa_e_low=q["kappa_e_lo"], kappa_e_high=q["kappa_e_hi"],
         kappa_L=kappa_L, kappa_L_low=kl_lo, kappa_L_high=kl_hi,
         kappa_L_err=0.5 * (kl_hi - kl_lo),
+        kappa_L_err_systematic=q["kappa_L_sys_sd"], kappa_L_err_random=q["kappa_L_rand_sd"],
         zT=zT, zT_low=q.get("zT_lo"), zT_high=q.get("zT_hi"),
         kappa_L_degenerate=kappa_L_deg, kappa_L_kim=kappa_L_kim, eta=eta,
         kappa_min=kappa_min, nonpositive=nonpositive, below_minimum=below, bipolar=bip,
-        uncertainty=u, draws=draws, seed=seed, citations=tuple(cites),
+        uncertainty={k: p.systematic for k, p in parts.items()},
+        uncertainty_random={k: p.random for k, p in parts.items()}, budget=budget,
+        draws=draws, seed=seed, citations=tuple(cites),
         notes=tuple(notes),
     )
 
@@ -454,12 +393,15 @@ def split(temperature: ArrayLike, kappa: ArrayLike, electrical_conductivity: Arr
     lorenz : {'spb', 'degenerate', 'nondegenerate', 'kim'} or float
         Lorenz model, or a constant [W Ohm K^-2].
     scattering_exponent : float
-        lambda of tau ~ E^(lambda-1/2) for ``spb``, within :data:`EXPONENT_RANGE`: 0 acoustic
-        phonons (default), 1 polar optical, 2 ionized impurities.
+        lambda of tau ~ E^(lambda-1/2) for ``spb`` and ``nondegenerate`` ((2 + lambda)
+        (k_B/e)^2), within :data:`EXPONENT_RANGE`: 0 acoustic phonons (default), 1 polar
+        optical, 2 ionized impurities.
     uncertainty : mapping, optional
         Relative 1-sigma uncertainties, keys ``kappa``, ``sigma`` (or ``resistivity``,
-        ``electrical_conductivity``), ``S``, ``L``; missing keys take
-        :data:`DEFAULT_UNCERTAINTY`.
+        ``electrical_conductivity``), ``S``, ``L``; each value a number (the systematic part,
+        shared by all temperatures; the random part keeps its default), a pair
+        ``(systematic, random)`` or :class:`~kappa.workflows.uncertainty.Parts`. Missing keys
+        take :data:`DEFAULT_UNCERTAINTY` (systematic) and :data:`DEFAULT_RANDOM` (random).
     draws : int
         Monte Carlo draws, within :data:`DRAW_RANGE` (100 to 100,000).
     seed : int

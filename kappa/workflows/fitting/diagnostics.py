@@ -1,7 +1,8 @@
 """Warnings that protect a fit's user: parameters at bounds, correlations, parameters the data
-do not need, boundary lengths far from the grain size, poor χ², other minima, a possible bipolar
-rise. Each returns plain-words messages; :func:`~kappa.workflows.fitting.fit_series` stores
-them in the result and issues each once."""
+do not need, mechanisms driven to an effective zero, boundary lengths far from the grain size,
+χ²_red far from 1 (either way), other minima, a possible bipolar rise. Each returns plain-words
+messages; :func:`~kappa.workflows.fitting.fit_series` stores them in the result and issues each
+once."""
 
 from __future__ import annotations
 
@@ -10,18 +11,23 @@ from collections.abc import Mapping, Sequence
 
 import numpy as np
 
+from kappa.core.evaluator import DivergenceError, conductivity
 from kappa.core.model import Model
+from kappa.errors import KappaError
 from kappa.workflows.fitting.data import FitData
 from kappa.workflows.fitting.parameters import SEARCH_DECADES, FreeParameter
-from kappa.workflows.fitting.result import FittedParameter, SampleFit
+from kappa.workflows.fitting.result import FittedParameter, FittedScale, SampleFit
 
-__all__ = ["diagnostics", "other_minimum", "at_bound", "upturn", "CORRELATION_LIMIT",
-           "DELTA_BIC", "BOUNDARY_FACTOR", "CHI2_RED_HIGH", "BIPOLAR_EXCESS", "ALT_DELTA_CHI2"]
+__all__ = ["diagnostics", "other_minimum", "at_bound", "upturn", "chi2_message",
+           "effective_zero", "CORRELATION_LIMIT", "DELTA_BIC", "BOUNDARY_FACTOR",
+           "CHI2_RED_HIGH", "CHI2_TAIL", "BIPOLAR_EXCESS", "ALT_DELTA_CHI2", "NEGLIGIBLE"]
 
 CORRELATION_LIMIT = 0.9  #: |r| above this: "not separately determined"
 DELTA_BIC = 2.0  #: freeing a parameter must lower BIC by at least this much
 BOUNDARY_FACTOR = 10.0  #: fitted boundary length vs. the model's grain size
-CHI2_RED_HIGH = 3.0  #: weighted fit: model misses the data by more than the uncertainties
+CHI2_RED_HIGH = 3.0  #: weighted fit: χ²_red above this is always reported as too high
+CHI2_TAIL = 0.005  #: χ² below/above this lower/upper tail probability of its distribution: warn
+NEGLIGIBLE = 1e-3  #: a mechanism whose removal changes κ_L by less than this everywhere: "zero"
 BIPOLAR_EXCESS = 0.10  #: relative rise above the high-T power-law trend that is flagged
 ALT_DELTA_CHI2 = 4.0  #: another start within this Δχ² of the best, far away, is reported
 
@@ -67,10 +73,81 @@ def other_minimum(best, u: np.ndarray, sd: np.ndarray, scale: float,
     return ""
 
 
+def chi2_message(chi2_red: float, dof: int, scales: Sequence[FittedScale] = ()) -> str:
+    """A plain-words warning when χ²_red is far from 1 for a weighted fit, else ``""``.
+
+    "Far" means outside the central 1 − 2·:data:`CHI2_TAIL` of the χ² distribution with
+    ``dof`` degrees of freedom (always above :data:`CHI2_RED_HIGH`): the stated uncertainties
+    and the scatter of the data about the model disagree.
+    """
+    if dof < 1 or not math.isfinite(chi2_red):
+        return ""
+    from scipy.stats import chi2  # imported here: keeps `import kappa` fast
+
+    low = float(chi2.ppf(CHI2_TAIL, dof)) / dof
+    high = min(float(chi2.ppf(1.0 - CHI2_TAIL, dof)) / dof, CHI2_RED_HIGH)
+    if chi2_red < low:
+        shared = ("" if scales else " If they are mostly shared by all temperatures "
+                  "(calibration, geometry), they are not point-to-point noise: give the "
+                  "systematic and random parts separately ('kappa split' writes both), or "
+                  "use --errors none.")
+        return (f"χ²_red = {chi2_red:.3g} is far below 1 (below {low:.2g}, which noise of the "
+                f"stated size reaches by chance in fewer than {100 * CHI2_TAIL:g} % of cases "
+                f"with {dof} degrees of freedom): the data scatter much less about the fit than "
+                "their uncertainties say, so the parameter errors are overstated." + shared)
+    if chi2_red > high:
+        return (f"χ²_red = {chi2_red:.3g} is far above 1 (above {high:.2g}): the model misses "
+                "the data by more than their uncertainties — the model lacks something the "
+                "data show, or the uncertainties are understated; the standard errors assume "
+                "neither and are too small")
+    return ""
+
+
+def effective_zero(params: Sequence[FreeParameter], fitted: Sequence[FittedParameter],
+                   sample_fits: Sequence[SampleFit]) -> list[str]:
+    """Free parameters of a scattering mechanism that the fit drove to an effective zero.
+
+    The mechanism is removed from each fitted model it acts on; if κ_L changes by less than
+    :data:`NEGLIGIBLE` (0.1 %) at every data temperature, the fit has switched it off.
+    """
+    out = []
+    for p, f in zip(params, fitted, strict=True):
+        parts = p.key.split(".")
+        if parts[0] != "scattering":
+            continue
+        mech = parts[1]
+        largest = 0.0
+        for s in sample_fits:
+            if p.sample not in (None, s.name) or s.model.scattering.get(mech) is None:
+                continue
+            T = s.data.temperature
+            try:
+                without = conductivity(type(s.model)(s.model.spec,
+                                                     s.model.scattering.without(mech)), T)
+            except (DivergenceError, KappaError):
+                largest = math.inf
+                break
+            with np.errstate(divide="ignore", invalid="ignore"):
+                change = np.abs(without / s.kappa_L_fit - 1.0)
+            largest = max(largest, float(np.nanmax(change)) if change.size else 0.0)
+        if largest < NEGLIGIBLE:
+            found = [s.model.scattering.get(mech) for s in sample_fits
+                     if s.model.scattering.get(mech) is not None]
+            title = found[0].title if found else mech
+            out.append(f"{f.label} = {p.parameter.format(f.value, 4)}: the fit drove {title} "
+                       f"to an effective zero — removing them changes κ_L by less than "
+                       f"{100 * NEGLIGIBLE:g} % at every fitted temperature (at most "
+                       f"{100 * largest:.2g} %). These data do not call for this mechanism; "
+                       "its value and error bar mean nothing: hold it fixed or leave the "
+                       "mechanism out")
+    return out
+
+
 def diagnostics(params: Sequence[FreeParameter], fitted: Sequence[FittedParameter],
                 corr: np.ndarray, delta_bic: Mapping[str, float],
                 sample_fits: Sequence[SampleFit], weighted: bool, chi2_red: float,
-                as_given: Mapping[str, Model]) -> list[str]:
+                as_given: Mapping[str, Model], *, dof: int | None = None,
+                scales: Sequence[FittedScale] = ()) -> list[str]:
     """The warnings of a finished fit (see the module notes)."""
     out: list[str] = []
     for p, f in zip(params, fitted, strict=True):
@@ -115,9 +192,21 @@ def diagnostics(params: Sequence[FreeParameter], fitted: Sequence[FittedParamete
                            f" is {ratio:.3g}× the grain size in the model "
                            f"({p.parameter.format(written, 6)}); the boundary term may be "
                            "standing in for another mechanism")
-    if weighted and chi2_red > CHI2_RED_HIGH:
-        out.append(f"χ²_red = {chi2_red:.3g}: the model misses the data by more than their "
-                   "uncertainties; the standard errors assume it does not")
+    if weighted:
+        n_dof = dof if dof is not None else 0
+        message = chi2_message(chi2_red, n_dof, scales) if n_dof else (
+            f"χ²_red = {chi2_red:.3g}: the model misses the data by more than their "
+            "uncertainties; the standard errors assume it does not"
+            if chi2_red > CHI2_RED_HIGH else "")
+        if message:
+            out.append(message)
+    for s in scales:
+        if abs(s.z) > 2.0:
+            out.append(f"{s.sample}: the fitted shared scale is {s.factor:.3g} ({s.z:+.2g} "
+                       f"times the stated systematic uncertainty of {100 * s.width:.2g} %): "
+                       "the data sit further from the model than their calibration error "
+                       "allows; check the systematic uncertainty or the model")
+    out += effective_zero(params, fitted, sample_fits)
     for s in sample_fits:
         flagged = upturn(s.data)
         if flagged:

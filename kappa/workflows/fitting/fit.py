@@ -9,7 +9,11 @@ lattice conductivities; every other value stays as the model gives it. See
 
 Uncertainties: ``stderr`` is the delta-method standard error in the parameter's own unit
 (value·σ_u for log-space parameters); ``low68``/``high68`` is the 68 % interval exp(u ± σ_u)
-(log space) or value ± σ (linear). Information criteria: weighted AIC = χ² + 2k,
+(log space) or value ± σ (linear). Data with a systematic part (``FitData.systematic``, the
+error shared by all temperatures of a sample) get one scale per sample as a nuisance parameter
+with a Gaussian prior of that width (:mod:`~kappa.workflows.fitting.objective`); the random
+part weights the points; the parameters' errors then include the shared error, and the fitted
+scales are reported (``FitResult.scales``). Information criteria: weighted AIC = χ² + 2k,
 BIC = χ² + k ln n; unweighted n ln(RSS/n) + 2k and + k ln n (only differences between fits
 to the same data mean anything).
 """
@@ -33,7 +37,7 @@ from kappa.workflows.fitting.parameters import (
     free_parameter,
     seeded_starts,
 )
-from kappa.workflows.fitting.result import FitResult, FittedParameter, SampleFit
+from kappa.workflows.fitting.result import FitResult, FittedParameter, FittedScale, SampleFit
 
 __all__ = ["fit", "fit_series", "FIT_CITATIONS"]
 
@@ -178,15 +182,19 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
             warn(message, stacklevel=2)
     problem = Problem(samples, params, weighted)
     problem.model(problem.u0[None, :])  # the start must be computable (a clear error if not)
-    best, same, nfev = solve(problem, seeded_starts(problem.params, problem.u0, int(starts),
-                                                    int(seed)))
-    u = best.u
-    r = problem.fun(u)
+    nz = problem.size - k  # nuisance scales, started at 0 (their prior's centre)
+    start_list = [np.concatenate([s_, np.zeros(nz)])
+                  for s_ in seeded_starts(problem.params, problem.u0[:k], int(starts), int(seed))]
+    best, same, nfev = solve(problem, start_list)
+    u_full = best.u
+    r = problem.fun(u_full)
     chi2 = float(r @ r)
     dof = n - k
-    J = problem.jac_central(u)
+    J = problem.jac_central(u_full)
     scale = 1.0 if weighted else chi2 / dof
-    cov = covariance(J, scale)
+    cov_full = covariance(J, scale)
+    cov = cov_full[:k, :k]
+    u = u_full[:k]
     sd = np.sqrt(np.diag(cov))
     with np.errstate(invalid="ignore", divide="ignore"):
         corr = cov / np.outer(sd, sd)
@@ -206,15 +214,23 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
         fitted.append(FittedParameter(p.key, p.sample, value, se, lo68, hi68, p.start,
                                       p.parameter, p.space, at_bound(p, u[i])))
     models = problem.models(u)
-    curve = problem.model(u[None, :])[0]
-    r_all = problem.residuals_of(curve)
+    curve = problem.model(u_full[None, :])[0]
+    factors = problem.factors(u_full[None, :])[0]
+    r_all = problem.residuals_of(curve[None, :], u_full[None, :])[0]
+    scaled = {problem.samples[j].name for j, _, _ in problem.scales}
     sample_fits, i0 = [], 0
     for s, m in zip(samples, models, strict=True):
-        c = curve[i0:i0 + s.data.size]
-        sample_fits.append(SampleFit(s.name, s.data, c, s.data.kappa_L - c,
-                                     np.log(s.data.kappa_L) - np.log(c),
-                                     -r_all[i0:i0 + s.data.size], m, s.model))
-        i0 += s.data.size
+        sl = slice(i0, i0 + s.data.size)
+        c, f = curve[sl], factors[sl]
+        sample_fits.append(SampleFit(s.name, s.data, c, s.data.kappa_L - c * f,
+                                     np.log(s.data.kappa_L) - np.log(c * f), -r_all[sl], m,
+                                     s.model, f if s.name in scaled else None))
+        i0 = sl.stop
+    sd_full = np.sqrt(np.diag(cov_full))
+    fitted_scales = tuple(
+        FittedScale(problem.samples[j].name, problem.samples[j].data.systematic_width,
+                    float(u_full[k + i]), float(sd_full[k + i]))
+        for i, (j, _, _) in enumerate(problem.scales))
     delta_bic: dict[str, float] = {}
     messages = list(notes)
     alt = other_minimum(best, u, sd, 1.0 if weighted else scale, params)
@@ -226,20 +242,27 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
                         "give bounds)")
     if checks:
         for i, p in enumerate(params):
-            held, _, more = solve(problem, [u], fixed={i: problem.u0[i]})
+            held, _, more = solve(problem, [u_full], fixed={i: problem.u0[i]})
             nfev += more
             c_i = float(held.fun @ held.fun)
             delta_bic[p.label] = criteria(c_i, n, k - 1, weighted)[1] - bic
         messages += diagnostics(params, fitted, corr, delta_bic, sample_fits, weighted,
-                                chi2 / dof, as_given)
+                                chi2 / dof, as_given, dof=dof, scales=fitted_scales)
     cites = [CALLAWAY_CITATION]
     for s in sample_fits:
         cites += [c for c in s.model.mechanisms.citations() if c not in cites]
     cites += FIT_CITATIONS
+    # "separate" data whose systematic part is zero leave only the random part
+    modes = {("random" if s.data.errors == "separate" else s.data.errors) for s in samples
+             if s.data.errors}
+    errors = ("separate" if fitted_scales else (modes.pop() if len(modes) == 1 else "total")
+              ) if weighted else "none"
+    labels = tuple(p.label for p in params) + tuple(f"scale:{f.sample}" for f in fitted_scales)
     result = FitResult(
         tuple(fitted), tuple(sample_fits), u, cov, corr, weighted, n, k, dof, chi2,
         chi2 / dof if weighted else None, math.sqrt(chi2 / dof), aic, bic, int(starts), same,
-        nfev, delta_bic, tuple(messages), cites, tuple(p.space for p in params))
+        nfev, delta_bic, tuple(messages), cites, tuple(p.space for p in params), errors,
+        fitted_scales, cov_full, labels)
     for msg in messages:
         warn(msg, stacklevel=2)
     return result

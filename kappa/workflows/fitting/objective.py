@@ -5,6 +5,14 @@ is (JᵀJ)⁻¹ with the σ taken as true (not rescaled). Without uncertainties:
 r_i = ln κ_model − ln κ_i, and the covariance s²(JᵀJ)⁻¹ with s² = RSS/(n − k), i.e. the errors
 are scaled by the residual scatter.
 
+Shared (systematic) uncertainties. A sample whose data carry a systematic part c_i (the same
+calibration or geometry error at every temperature) gets one nuisance parameter z ~ N(0, 1):
+the model of its points is κ_model,i (1 + z w_i) with w_i = c_i/κ_i, the residuals are
+(κ_model,i (1 + z w_i) − κ_i)/σ_i with σ_i the random part, and z itself is one more residual
+(the Gaussian prior). The nuisances sit after the model parameters in the vector u; the
+covariance of the model parameters is their block of the joint covariance, so it includes what
+the shared error does to them.
+
 Every evaluation of the model for a set of parameter vectors is one batch per sample through
 the evaluator (:func:`kappa.core.evaluator.conductivity`), so forward-difference Jacobians
 and band draws cost one kernel call per sample.
@@ -23,16 +31,21 @@ from kappa.errors import KappaError
 from kappa.workflows.fitting.data import SeriesSample
 from kappa.workflows.fitting.parameters import FreeParameter
 
-__all__ = ["Problem", "solve", "covariance", "criteria", "MAX_EVALUATIONS"]
+__all__ = ["Problem", "solve", "covariance", "criteria", "MAX_EVALUATIONS", "SCALE_LIMIT"]
 
 MAX_EVALUATIONS = 1000  #: solver evaluations per start before it stops (reported if reached)
 _SAME_MINIMUM = 1e-6  #: relative cost difference counted as "the same minimum"
 _STEP = 1e-6  #: finite-difference step in the transformed space (relative)
 _PENALTY = 1e6  #: residual returned where the model rejects a trial point
+SCALE_LIMIT = 8.0  #: search range of a nuisance scale, in standard deviations of its prior
 
 
 class Problem:
-    """Residuals of all samples as a function of the transformed parameter vector u."""
+    """Residuals of all samples as a function of the transformed parameter vector u.
+
+    u holds the model parameters (``params``, transformed) followed by one standardized scale
+    per sample with a systematic uncertainty (:attr:`scales`).
+    """
 
     def __init__(self, samples: Sequence[SeriesSample], params: Sequence[FreeParameter],
                  weighted: bool) -> None:
@@ -40,13 +53,24 @@ class Problem:
         self.params = list(params)
         self.weighted = weighted
         self.n = sum(s.data.size for s in samples)
-        self.lo = np.array([p.search[0] for p in params])
-        self.hi = np.array([p.search[1] for p in params])
-        self.u0 = np.array([p.to_u(p.start) for p in params], dtype=float)
+        self.k = len(self.params)
+        self.scales: list[tuple[int, slice, np.ndarray]] = []  # (sample, points, w_i)
+        i0 = 0
+        for j, s in enumerate(self.samples):
+            sl = slice(i0, i0 + s.data.size)
+            if weighted and s.data.systematic is not None:
+                self.scales.append((j, sl, s.data.systematic / s.data.kappa_L))
+            i0 = sl.stop
+        self.size = self.k + len(self.scales)
+        self.lo = np.array([p.search[0] for p in params] + [-SCALE_LIMIT] * len(self.scales))
+        self.hi = np.array([p.search[1] for p in params] + [SCALE_LIMIT] * len(self.scales))
+        self.u0 = np.array([p.to_u(p.start) for p in params] + [0.0] * len(self.scales),
+                           dtype=float)
         self.data = np.concatenate([s.data.kappa_L for s in samples])
         self.sigma = (np.concatenate([s.data.uncertainty for s in samples]) if weighted
                       else None)
         self._cache: tuple[np.ndarray, np.ndarray] | None = None
+        self._curve: tuple[np.ndarray, np.ndarray] | None = None
 
     def values(self, u: np.ndarray, sample: SeriesSample) -> dict[str, Any]:
         """The SI values of the parameters acting on ``sample`` (arrays when ``u`` is 2-D)."""
@@ -67,7 +91,7 @@ class Problem:
         return out
 
     def model(self, U: np.ndarray) -> np.ndarray:
-        """κ_model for each row of U, shape (len(U), n)."""
+        """κ_model for each row of U, shape (len(U), n) (without the scales)."""
         U = np.atleast_2d(U)
         parts = []
         for s in self.samples:
@@ -77,20 +101,35 @@ class Problem:
             parts.append(np.broadcast_to(k, (len(U), s.data.size)))
         return np.concatenate(parts, axis=1)
 
-    def residuals_of(self, model: np.ndarray) -> np.ndarray:
+    def factors(self, U: np.ndarray) -> np.ndarray:
+        """The scale factor 1 + z w_i of every point for each row of U: (len(U), n)."""
+        U = np.atleast_2d(U)
+        f = np.ones((len(U), self.n))
+        for j, (_, sl, w) in enumerate(self.scales):
+            f[:, sl] = 1.0 + U[:, self.k + j, None] * w[None, :]
+        return f
+
+    def residuals_of(self, model: np.ndarray, U: np.ndarray | None = None) -> np.ndarray:
+        """Residuals of the data points for model values ``model`` (and the scales in U)."""
+        if self.scales and U is not None:
+            model = model * self.factors(U)
         if self.weighted:
             return (model - self.data) / self.sigma
         with np.errstate(divide="ignore", invalid="ignore"):
             return np.log(model) - np.log(self.data)
 
     def residuals(self, U: np.ndarray) -> np.ndarray:
+        """All residuals for each row of U: the data points, then the scales' priors."""
         U = np.atleast_2d(U)
         try:
-            r = self.residuals_of(self.model(U))
+            r = self.residuals_of(self.model(U), U)
         except KappaError:
             # a trial point the model rejects (e.g. a divergent rate set): steer the solver away
             r = np.full((len(U), self.n), _PENALTY)
-        return np.where(np.isfinite(r), r, _PENALTY)
+        r = np.where(np.isfinite(r), r, _PENALTY)
+        if self.scales:
+            r = np.concatenate([r, U[:, self.k:]], axis=1)
+        return r
 
     def fun(self, u: np.ndarray) -> np.ndarray:
         if self._cache is not None and np.array_equal(self._cache[0], u):
@@ -99,28 +138,67 @@ class Problem:
         self._cache = (u.copy(), r)
         return r
 
+    def curve(self, u: np.ndarray) -> np.ndarray:
+        """κ_model at one parameter vector (cached), shape (n,)."""
+        if self._curve is not None and np.array_equal(self._curve[0], u[:self.k]):
+            return self._curve[1]
+        c = self.model(u[None, :])[0]
+        self._curve = (u[:self.k].copy(), c)
+        return c
+
+    def _scale_columns(self, u: np.ndarray, idx: Sequence[int]) -> np.ndarray:
+        """Exact derivatives of the residuals with respect to the scales ``idx`` (≥ k)."""
+        out = np.zeros((self.n + len(self.scales), len(idx)))
+        if not idx:
+            return out
+        c = self.curve(u)
+        for col, i in enumerate(idx):
+            j = i - self.k
+            _, sl, w = self.scales[j]
+            out[sl, col] = c[sl] * w / self.sigma[sl]
+            out[self.n + j, col] = 1.0
+        return out
+
     def _steps(self, u: np.ndarray) -> np.ndarray:
         h = _STEP * np.maximum(1.0, np.abs(u))
         return np.where(u + h > self.hi, -h, h)  # step backwards at an upper bound
 
     def jac(self, u: np.ndarray, idx: Sequence[int] | None = None) -> np.ndarray:
-        """Forward differences in the columns ``idx``, all shifted points in one evaluation."""
+        """Forward differences in the model columns of ``idx`` (all shifted points in one
+        evaluation), exact derivatives in the scale columns."""
         idx = list(range(u.size)) if idx is None else list(idx)
-        h = self._steps(u)[idx]
-        U = np.repeat(u[None, :], len(idx), axis=0)
-        U[np.arange(len(idx)), idx] += h
-        return ((self.residuals(U) - self.fun(u)[None, :]) / h[:, None]).T
+        model_idx = [i for i in idx if i < self.k]
+        J = np.empty((self.n + len(self.scales), len(idx)))
+        if model_idx:
+            h = self._steps(u)[model_idx]
+            U = np.repeat(u[None, :], len(model_idx), axis=0)
+            U[np.arange(len(model_idx)), model_idx] += h
+            cols = ((self.residuals(U) - self.fun(u)[None, :]) / h[:, None]).T
+            J[:, [idx.index(i) for i in model_idx]] = cols
+        scale_idx = [i for i in idx if i >= self.k]
+        if scale_idx:
+            J[:, [idx.index(i) for i in scale_idx]] = self._scale_columns(u, scale_idx)
+        return J
 
     def jac_central(self, u: np.ndarray) -> np.ndarray:
-        """Central differences (one-sided at a bound), for the covariance."""
-        h = _STEP ** (2.0 / 3.0) * np.maximum(1.0, np.abs(u))
-        up = np.minimum(u + h, self.hi)
-        dn = np.maximum(u - h, self.lo)
-        k = u.size
-        U = np.vstack([np.where(np.eye(k, dtype=bool), up[None, :], u[None, :]),
-                       np.where(np.eye(k, dtype=bool), dn[None, :], u[None, :])])
-        R = self.residuals(U)
-        return ((R[:k] - R[k:]) / (up - dn)[:, None]).T
+        """Central differences (one-sided at a bound) in the model columns, for the
+        covariance; exact derivatives in the scale columns."""
+        k = self.k
+        J = np.empty((self.n + len(self.scales), u.size))
+        if k:
+            h = _STEP ** (2.0 / 3.0) * np.maximum(1.0, np.abs(u[:k]))
+            up = np.minimum(u[:k] + h, self.hi[:k])
+            dn = np.maximum(u[:k] - h, self.lo[:k])
+            eye = np.eye(k, dtype=bool)
+            U_up = np.repeat(u[None, :], k, axis=0)
+            U_dn = U_up.copy()
+            U_up[:, :k] = np.where(eye, up[None, :], u[None, :k])
+            U_dn[:, :k] = np.where(eye, dn[None, :], u[None, :k])
+            R = self.residuals(np.vstack([U_up, U_dn]))
+            J[:, :k] = ((R[:k] - R[k:]) / (up - dn)[:, None]).T
+        if self.scales:
+            J[:, k:] = self._scale_columns(u, list(range(k, u.size)))
+        return J
 
 
 class _Null:
@@ -139,7 +217,7 @@ def solve(problem: Problem, starts: Sequence[np.ndarray], fixed: Mapping[int, fl
     from scipy.optimize import least_squares  # imported here: keeps `import kappa` fast
 
     fixed = dict(fixed)
-    free_idx = [i for i in range(len(problem.params)) if i not in fixed]
+    free_idx = [i for i in range(problem.size) if i not in fixed]
     base = problem.u0.copy()
     for i, v in fixed.items():
         base[i] = v

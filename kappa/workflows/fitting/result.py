@@ -10,7 +10,7 @@ from kappa.core.model import Model
 from kappa.core.parameters import Parameter
 from kappa.workflows.fitting.data import FitData
 
-__all__ = ["FittedParameter", "SampleFit", "FitResult"]
+__all__ = ["FittedParameter", "FittedScale", "SampleFit", "FitResult"]
 
 
 @dataclass(frozen=True)
@@ -53,12 +53,42 @@ class FittedParameter:
 
 
 @dataclass(frozen=True)
+class FittedScale:
+    """The shared (systematic) scale of one sample's data, a nuisance parameter of the fit.
+
+    The fit models the sample's points as κ_model,i (1 + z w_i) with z ~ N(0, 1) a priori and
+    w_i = systematic_i/κ_i the stated relative systematic uncertainty of each point. ``z`` is
+    the fitted value in units of that width, ``z_stderr`` its standard error; ``factor`` is
+    1 + z w̄ with w̄ the median of w_i (the data lie ``factor`` times above the model),
+    ``low68``/``high68`` 1 + (z ∓ z_stderr) w̄.
+    """
+
+    sample: str
+    width: float
+    z: float
+    z_stderr: float
+
+    @property
+    def factor(self) -> float:
+        return 1.0 + self.z * self.width
+
+    @property
+    def low68(self) -> float:
+        return 1.0 + (self.z - self.z_stderr) * self.width
+
+    @property
+    def high68(self) -> float:
+        return 1.0 + (self.z + self.z_stderr) * self.width
+
+
+@dataclass(frozen=True)
 class SampleFit:
     """Data, fitted curve and residuals of one sample.
 
-    ``residual`` is measured − model, κ − κ_fit [W/(m K)]; ``relative`` is ln κ − ln κ_fit [1];
-    ``normalized`` is the residual the fit minimised with the same sign ((κ − κ_fit)/σ, or the
-    relative residual).
+    ``kappa_L_fit`` is the fitted model; ``scale_factor`` (None without a shared scale) the
+    fitted scale of the data at each point, 1 + z w_i. ``residual`` is measured − model × scale,
+    κ − κ_fit·f [W/(m K)]; ``relative`` is ln κ − ln(κ_fit·f) [1]; ``normalized`` is the
+    residual the fit minimised with the same sign ((κ − κ_fit·f)/σ, or the relative residual).
     """
 
     name: str
@@ -69,6 +99,7 @@ class SampleFit:
     normalized: np.ndarray
     model: Model = field(repr=False)
     start_model: Model = field(repr=False)
+    scale_factor: np.ndarray | None = None
 
 
 @dataclass(frozen=True)
@@ -100,6 +131,17 @@ class FitResult:
     warnings : tuple of str
     citations : list of str
     spaces : tuple of str
+    errors : str
+        How the data's uncertainties were used: ``separate`` (random part as noise, one shared
+        scale per sample with a systematic part), ``total``/``random`` (independent per point)
+        or ``none``.
+    scales : tuple of FittedScale
+        The shared scale of each sample with a systematic uncertainty.
+    full_covariance : ndarray
+        Joint covariance of the parameters (transformed space) and the scales (z); the
+        parameters' block equals ``covariance``.
+    full_labels : tuple of str
+        Labels of its rows: the parameters', then ``scale:SAMPLE``.
     """
 
     parameters: tuple[FittedParameter, ...]
@@ -123,6 +165,10 @@ class FitResult:
     warnings: tuple[str, ...]
     citations: list[str]
     spaces: tuple[str, ...]
+    errors: str = ""
+    scales: tuple[FittedScale, ...] = ()
+    full_covariance: np.ndarray | None = None
+    full_labels: tuple[str, ...] = ()
 
     @property
     def model(self) -> Model:
@@ -141,7 +187,15 @@ class FitResult:
 
     @property
     def weighting(self) -> str:
+        if self.weighted and self.scales:
+            return ("weighted by the random (point-to-point) uncertainties, with one shared "
+                    "scale per sample for the systematic part (a nuisance parameter with a "
+                    "Gaussian prior of the stated width; absolute chi-square)")
+        if self.weighted and self.errors == "random":
+            return ("weighted by the random (point-to-point) uncertainties only; the shared "
+                    "calibration error is not in the parameter errors (absolute chi-square)")
         if self.weighted:
-            return "weighted by the measurement uncertainties (absolute chi-square)"
+            return ("weighted by the measurement uncertainties, taken as independent from "
+                    "point to point (absolute chi-square)")
         return ("no uncertainties given: relative residuals ln(kappa/kappa_fit), errors scaled "
                 "by the residual scatter")
