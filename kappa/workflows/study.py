@@ -35,12 +35,13 @@ from kappa.errors import KappaError
 from kappa.workflows.fitting.band import Covariance, draw_models
 from kappa.workflows.predict import predict
 from kappa.workflows.split import SplitResult
+from kappa.workflows.whatif import PERCENTILES
 
 __all__ = ["WhatIf", "what_if", "ZTProjection", "project_zT", "Answer", "answers",
            "default_at", "LOW", "HIGH", "ZT_ASSUMPTION", "CAUTIONS"]
 
-#: Percentiles of the reported interval (the central 68 %).
-LOW, HIGH = 16.0, 84.0
+#: Percentiles of the reported interval (the central 68 %, as every what-if answer of kappa).
+LOW, HIGH = PERCENTILES
 #: The assumption behind every projected zT, stated next to the numbers.
 ZT_ASSUMPTION = ("measured S, σ and κ_e held fixed; only κ_L changes, by the model's ratio "
                  "κ_L(scenario)/κ_L(fitted)")
