@@ -254,8 +254,9 @@ def _flags(r: SplitResult, i: int) -> str:
 
 def split_command(
     data: Annotated[list[Path], typer.Argument(
-        help="Measurement CSV file(s); columns T, kappa or D+rho+cp, sigma or resistivity, S.",
-        exists=True, dir_okay=False, readable=True, show_default=False, metavar="DATA.csv...")],
+        help="Measurement files (CSV/TXT with comma, semicolon or tab separators, or .xlsx; "
+        "BOOK.xlsx:SHEET for another sheet); columns T, kappa or D+rho+cp, sigma or "
+        "resistivity, S.", show_default=False, metavar="DATA...")],
     out: Annotated[Path | None, typer.Option(
         "-o", "--out", help="Output folder (default: beside the first file, with a time stamp).",
         show_default=False)] = None,
@@ -296,6 +297,22 @@ def split_command(
         "--config", help="A kappa config of the material: its volume per atom and branch "
         "velocities give the Cahill minimum (--number-density/--sound-velocity take priority).",
         exists=True, dir_okay=False, show_default=False)] = None,
+    separator: Annotated[str | None, typer.Option(
+        "--separator", help="Separator of text files: comma, semicolon or tab (default: "
+        "detected).", show_default=False)] = None,
+    decimal: Annotated[str | None, typer.Option(
+        "--decimal", help="Decimal mark of text files: point or comma (default: detected).",
+        show_default=False)] = None,
+    extrapolate: Annotated[str | None, typer.Option(
+        "--extrapolate", help="Allow a quantity to be extrapolated linearly this far beyond "
+        "its measured range, e.g. 5K (each such row is reported; default: never).",
+        show_default=False)] = None,
+    density: Annotated[str | None, typer.Option(
+        "--density", help="Sample density for the flash trio, if no file gives it, e.g. "
+        "3.08g/cm^3 (bare number: g/cm^3).", show_default=False)] = None,
+    heat_capacity: Annotated[str | None, typer.Option(
+        "--heat-capacity", help="Specific heat for the flash trio, if no file gives it, e.g. "
+        "0.25J/(g K) (bare number: J/(g K)).", show_default=False)] = None,
 ) -> None:
     if fit_window is not None:
         if window is not None:
@@ -305,8 +322,10 @@ def split_command(
     if config is not None:
         number_density, sound_velocity = _cahill_from_config(config, number_density,
                                                              sound_velocity)
+    reading = {"separator": separator, "decimal": decimal, "extrapolate": extrapolate or 0.0,
+               "density": density, "heat_capacity": heat_capacity}
     _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, window,
-         nan, draws, seed, number_density, sound_velocity, config)
+         nan, draws, seed, number_density, sound_velocity, config, reading)
 
 
 @common.handles_errors(command="split")
@@ -333,7 +352,7 @@ def _cahill_from_config(config: Path, number_density: str | None,
 
 @common.handles_errors(command="split")
 def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, window_text,
-         nan, draws, seed, number_density, sound_velocity, config) -> None:
+         nan, draws, seed, number_density, sound_velocity, config, reading=None) -> None:
     # 1. validate every option and the data before anything is written
     model = parse_lorenz(lorenz)
     unc = parse_uncertainty(uncertainty)
@@ -342,10 +361,13 @@ def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty
     if nan not in NAN_POLICIES:
         raise DataError("--nan", nan, "raise or omit")
     parse_run_options(draws, seed, scattering_exponent)
-    inputs = [*data, *([config] if config is not None else [])]
-    out = Path(out) if out is not None else default_out(data[0], "split")
+    from kappa.io.labfiles import split_sheet
+
+    files = list(dict.fromkeys(split_sheet(p)[0] for p in data))  # book.xlsx:Sheet → book.xlsx
+    inputs = [*files, *([config] if config is not None else [])]
+    out = Path(out) if out is not None else default_out(files[0], "split")
     check_out(out, force=force, inputs=inputs)
-    m = read_measurements(data, nan=nan, composition=composition)
+    m = _read_data(data, nan, composition, reading or {})
     if m.seebeck is None and model in ("spb", "kim"):
         raise DataError(", ".join(p.name for p in data), "no column 'S [...]'",
                         f"a Seebeck column (e.g. 'S [uV/K]') is needed for --lorenz {model}; "
@@ -404,6 +426,21 @@ def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty
     for line in lines:
         typer.echo(line)
     typer.echo(f"Wrote {out}/ (split.csv, split.png, split.svg, run.json)")
+
+
+def _read_data(data, nan: str, composition: str | None, reading: dict) -> Measurements:
+    """Read the measurement files with the reading options (errors name the options)."""
+    from kappa.io.measurements import parse_constants
+
+    reading = dict(reading)
+    constants = parse_constants(reading.pop("density", None), reading.pop("heat_capacity", None))
+    try:
+        return read_measurements(data, nan=nan, composition=composition, constants=constants,
+                                 **reading)
+    except DataError as exc:
+        if exc.key in ("separator", "decimal", "extrapolate"):
+            raise exc.renamed(f"--{exc.key}") from None
+        raise
 
 
 def _derived(r: SplitResult) -> dict:

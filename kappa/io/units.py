@@ -14,7 +14,7 @@ import re
 from kappa.errors import ConfigError, KappaError
 
 __all__ = ["registry", "parse_quantity", "parse_unit", "unit_factor", "format_quantity",
-           "parse_window", "MAX_UNIT_LENGTH", "MAX_EXPONENT"]
+           "parse_window", "parse_temperature_difference", "MAX_UNIT_LENGTH", "MAX_EXPONENT"]
 
 #: Longest unit expression handed to pint [characters] (``W/(m K)`` has 7).
 MAX_UNIT_LENGTH = 100
@@ -49,12 +49,14 @@ _COMPACT = [  # compact lab spellings → explicit products (W/mK is not "watt p
     (re.compile(r"/\s*kg\s*[-·.]?\s*K\b"), "/(kg K)"),
     (re.compile(r"/\s*mol\s*[-·.]?\s*K\b"), "/(mol K)"),
 ]
+_DEGREES = re.compile(r"°\s*([CF])\b")  # °C, ° C → degC (°F → degF)
 _EXPONENT = re.compile(r"(?<=[A-Za-zΩ)])(-?\d+)\b")  # m-1, cm-3, mm2 → m^-1, cm^-3, mm^2
 
 
 def normalize_unit(text: str) -> str:
     """Rewrite common lab spellings into ones pint parses (``W/mK``, ``m-1``, ``mm2``, ``µ``)."""
     t = text.strip().replace("µ", "u").replace("μ", "u").replace("·", " ").replace("⋅", " ")
+    t = _DEGREES.sub(lambda m: "deg" + m.group(1), t.replace("℃", "degC").replace("℉", "degF"))
     t = t.replace("²", "^2").replace("³", "^3").replace("⁻¹", "^-1")
     for pattern, repl in _COMPACT:
         t = pattern.sub(repl, t)
@@ -227,6 +229,25 @@ def parse_window(text: str | None, option: str = "--window", *,
         raise error(option, text, "the lower temperature must be below the upper one, "
                     "e.g. 300K:450K")
     return lo, hi
+
+
+def parse_temperature_difference(value: object, key: str, *,
+                                 error: type[KappaError] = ConfigError) -> float:
+    """A temperature difference in kelvin: ``5K``, ``5 degC`` (a difference, not 278 K), ``5``.
+
+    Raises ``error`` naming ``key`` for a value without the dimension of a temperature.
+    """
+    text = str(value).strip()
+    match = _NUMBER.match(text)
+    if not match or math.isnan(float(match.group(1))):
+        raise error(key, value, "a temperature difference, e.g. 5K")
+    number, unit = float(match.group(1)), match.group(2).strip()
+    if normalize_unit(unit) in ("degC", "delta_degC", "C"):
+        return number
+    if normalize_unit(unit) in ("degF", "delta_degF"):
+        return number * 5.0 / 9.0
+    scale, offset = unit_factor(unit or "K", "K", key, error=error, shown=value)
+    return number * scale
 
 
 def format_quantity(value: float, unit: str, digits: int = 12) -> str:
