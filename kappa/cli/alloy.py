@@ -10,7 +10,7 @@ import typer
 
 from . import common
 
-HELP = f"""κ_L across the alloy series (1-x)·A + x·B of two end-member configs.
+HELP = """κ_L across the alloy series (1-x)·A + x·B of two end-member configs.
 
 Virtual crystal: mean mass linear in x; lattice constant linear (Vegard's law, δ = V0^(1/3));
 elastic moduli ρv² linear, velocities from them and the interpolated density; Grüneisen
@@ -30,8 +30,6 @@ Examples:
 
   kappa alloy mg2si.yaml mg2sn.yaml --fraction 0,0.2,0.4,0.6 --at 300K,600K
       --strain-parameter 60 -o mgsisn
-
-{common.CAUTION}
 """
 
 

@@ -10,7 +10,7 @@ import typer
 
 from . import common
 
-HELP = f"""Fit free parameters of a config to measured lattice conductivity κ_L(T).
+HELP = """Fit free parameters of a config to measured lattice conductivity κ_L(T).
 
 DATA is a CSV with 'T [K]' and 'kappa_L [W/(m K)]' (any units of the right dimension), e.g. the
 split.csv of 'kappa split'. With a 'kappa_L_err' column (or 'kappa_L_low'/'kappa_L_high', read
@@ -39,8 +39,6 @@ Examples:
       --window 100K:600K -o fit1
   kappa fit --series series.yaml -o series-fit
   kappa predict fit1/fitted.yaml --band -o fit1-band
-
-{common.CAUTION}
 """
 
 

@@ -51,11 +51,21 @@ class Run:
         self._writers: list[tuple[str, Callable[[Path], None]]] = []
         self._record: dict[str, Any] = {}
 
-    def table(self, name: str, columns: Sequence[tuple[str, Any]]) -> None:
-        """A CSV table ``name`` with ``name [unit]`` headers."""
-        from kappa.io.tables import write_table
+    def table(self, name: str, columns: Sequence[tuple[str, Any]],
+              formats: Sequence[str] = ("csv",)) -> list[str]:
+        """A table ``name`` (``sweep.csv``) with ``name [unit]`` headers, written in each of
+        ``formats`` (csv, parquet: the suffix of ``name`` is replaced). Returns the names."""
+        from kappa.io.tables import write_parquet, write_table
 
-        self._writers.append((name, lambda folder: write_table(folder / name, columns)))
+        stem = name.rsplit(".", 1)[0] if name.endswith(".csv") else name
+        names = []
+        for fmt in formats:
+            fname = f"{stem}.{fmt}"
+            writer = write_parquet if fmt == "parquet" else write_table
+            self._writers.append((fname, lambda folder, f=fname, w=writer: w(folder / f,
+                                                                              columns)))
+            names.append(fname)
+        return names
 
     def figure(self, stem: str, fig, formats: Sequence[str] = ("png", "svg")) -> None:
         """A figure written as ``stem.png`` and ``stem.svg`` (or the formats given)."""

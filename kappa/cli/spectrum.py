@@ -9,7 +9,7 @@ import typer
 
 from . import common
 
-HELP = f"""Split κ_L over phonon frequency and mean free path at given temperatures.
+HELP = """Split κ_L over phonon frequency and mean free path at given temperatures.
 
 Writes OUT/spectrum.csv (per temperature, branch and frequency ν = ω/2π: spectral κ
 [W/(m K THz)], κ carried below ν, mean free path, and the rate of every active scattering
@@ -26,8 +26,6 @@ Examples:
   kappa spectrum my.yaml --at 300K -o spec300
 
   kappa spectrum my.yaml --at 300K,600K --set scattering.boundary.grain_size=100nm -o spec
-
-{common.CAUTION}
 """
 
 

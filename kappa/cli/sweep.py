@@ -11,7 +11,7 @@ import typer
 
 from . import common
 
-HELP = f"""Sweep one or more config keys over a grid and compute κ_L at every point.
+HELP = """Sweep one or more config keys over a grid and compute κ_L at every point.
 
 Each --vary is KEY=START:STOP:N (N evenly spaced values, both ends included), KEY=START:STOP:N:log
 (geometric spacing) or KEY=V1,V2,... (a list). Values take units (10nm, 2km/s); a bare number is
@@ -34,8 +34,6 @@ Examples:
   kappa sweep my.yaml --vary material.gruneisen=1.0,1.5,2.0 -o gamma
 
 Sweeps above 10^8 points need --yes.
-
-{common.CAUTION}
 """
 
 

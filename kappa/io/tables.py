@@ -214,10 +214,59 @@ def _write_numeric(fh, headers: list[str], cols: list, n: int, block: int = 200_
         fh.write(text + "\n")
 
 
+def round_significant(values: np.ndarray, digits: int = 8) -> np.ndarray:
+    """``values`` rounded to ``digits`` significant figures (so that they print short)."""
+    x = np.asarray(values, dtype=float)
+    with np.errstate(all="ignore"):
+        a = np.abs(x)
+        e = np.floor(np.log10(np.where((a > 0) & np.isfinite(a), a, 1.0)))
+        scale = 10.0 ** (digits - 1 - e)
+        r = np.round(x * scale) / scale
+    return np.where(np.isfinite(r), r, x)
+
+
+#: Tables with at least this many rows are written by pyarrow when it is installed.
+ARROW_ROWS = 20_000
+
+
+def _arrow_table(headers: list[str], cols: list):
+    import pyarrow as pa
+
+    arrays = []
+    for c in cols:
+        if c.dtype.kind == "b":
+            arrays.append(pa.array(c.astype(np.int8)))
+        elif c.dtype.kind in "iu":
+            arrays.append(pa.array(c))
+        else:
+            arrays.append(pa.array(round_significant(c), from_pandas=True))  # NaN → empty
+    return pa.Table.from_arrays(arrays, names=headers)
+
+
+def _write_arrow(fh, headers: list[str], cols: list) -> bool:
+    """Numeric columns through pyarrow's CSV writer (C++, threaded); False without pyarrow."""
+    try:
+        import pyarrow as pa
+        import pyarrow.csv as pacsv
+    except ImportError:
+        return False
+    buf = pa.BufferOutputStream()
+    pacsv.write_csv(_arrow_table(headers, cols), buf,
+                    pacsv.WriteOptions(include_header=False, quoting_style="none"))
+    fh.write(",".join(headers) + "\n")
+    fh.flush()
+    fh.buffer.write(buf.getvalue().to_pybytes()) if hasattr(fh, "buffer") else fh.write(
+        buf.getvalue().to_pybytes().decode("utf-8"))
+    return True
+
+
 def _write(fh, columns: Sequence[tuple[str, Iterable]], block: int = 10_000) -> None:
     cols, n = _check_lengths(columns)
     if _numeric(cols):
-        _write_numeric(fh, [h for h, _ in columns], cols, n)
+        headers = [h for h, _ in columns]
+        if n >= ARROW_ROWS and _write_arrow(fh, headers, cols):
+            return
+        _write_numeric(fh, headers, cols, n)
         return
     writer = csv.writer(fh, lineterminator="\n")
     writer.writerow([h for h, _ in columns])
@@ -239,6 +288,36 @@ def write_table(path: str | Path, columns: Sequence[tuple[str, Iterable]]) -> No
     """Write ``[(header, values), ...]`` as a CSV file, block by block (little memory)."""
     with open(path, "w", encoding="utf-8", newline="") as fh:
         _write(fh, columns)
+
+
+def write_parquet(path: str | Path, columns: Sequence[tuple[str, Iterable]]) -> None:
+    """Write ``[(header, values), ...]`` as a Parquet file (needs pyarrow).
+
+    Column names are the ``name [unit]`` headers; each field's metadata holds its ``unit``.
+    """
+    pa = parquet_library()
+    import pyarrow.parquet as pq
+
+    cols, _ = _check_lengths(columns)
+    fields, arrays = [], []
+    for (h, _), c in zip(columns, cols, strict=True):
+        a = np.asarray(c)
+        arr = pa.array(a.astype(np.int8) if a.dtype.kind == "b" else a,
+                       from_pandas=a.dtype.kind == "f")
+        unit = h.split(" [", 1)[1][:-1] if " [" in h else ""
+        fields.append(pa.field(h, arr.type, metadata={"unit": unit}))
+        arrays.append(arr)
+    pq.write_table(pa.Table.from_arrays(arrays, schema=pa.schema(fields)), str(path))
+
+
+def parquet_library():
+    """pyarrow, or a DataError saying how to install it (for ``--format parquet``)."""
+    try:
+        import pyarrow
+    except ImportError:
+        raise DataError("--format", "parquet", "needs pyarrow: pip install 'kappa[parquet]' "
+                        "(or pip install pyarrow); or use --format csv") from None
+    return pyarrow
 
 
 def axis_columns(axes) -> list[str]:

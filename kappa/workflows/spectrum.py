@@ -44,6 +44,7 @@ from kappa.core.evaluator import (
 from kappa.core.model import Model
 from kappa.core.quadrature import EPS_LOW
 from kappa.errors import ConfigError, warn
+from kappa.workflows.export import Tabular, frame
 
 __all__ = ["Spectrum", "spectrum", "SPECTRUM_POINTS", "MFP_POINTS", "MAX_TEMPERATURES"]
 
@@ -207,7 +208,7 @@ def _mfp_grid(branches: Sequence[_Branch], points: int) -> tuple[np.ndarray, np.
 
 
 @dataclass(frozen=True)
-class Spectrum:
+class Spectrum(Tabular):
     """Spectral κ_L of a model at a few temperatures.
 
     Arrays indexed ``[t, j, k]`` run over temperature, branch and frequency point.
@@ -265,6 +266,38 @@ class Spectrum:
     def mfp_fraction(self, fraction: float) -> np.ndarray:
         """Smallest Λ with K(Λ) ≥ ``fraction`` (0–1) of κ_L, per temperature [m]."""
         return np.array([_fraction_mfp(branches, fraction) for branches in self._mfp])
+
+    def columns(self) -> list[tuple[str, np.ndarray]]:
+        """Columns of ``spectrum.csv``: one row per temperature, branch and frequency."""
+        nT, nB, N = self.frequency.shape
+        Ts = np.broadcast_to(self.temperature[:, None, None], (nT, nB, N)).ravel()
+        labels = np.broadcast_to(np.array(self.branches, dtype=object)[None, :, None],
+                                 (nT, nB, N)).ravel()
+        cols: list[tuple[str, np.ndarray]] = [
+            ("T [K]", Ts), ("branch", labels),
+            ("frequency [THz]", self.frequency.ravel() / 1e12),
+            ("kappa_spectral [W/(m K THz)]", self.spectral.ravel() * 1e12),
+            ("kappa_cumulative [W/(m K)]", self.cumulative.ravel()),
+            ("mfp [nm]", self.mfp.ravel() * 1e9),
+        ]
+        for key, r in self.rates.items():
+            cols.append((f"rate_{key} [1/s]", r.ravel()))
+        return cols
+
+    def mean_free_path_columns(self) -> list[tuple[str, np.ndarray]]:
+        """Columns of ``kappa_by_mean_free_path.csv``: ``T [K]``, ``mfp [nm]`` and
+        ``kappa_cumulative [W/(m K)]``, the κ_L carried by phonons with mean free path up to
+        Λ (log-spaced between 10⁻⁴ and 1 − 10⁻⁴ of κ_L, then the largest Λ, where it is κ_L)."""
+        Ts = [np.full(g.size, t) for t, g in zip(self.temperature, self.mfp_nodes, strict=True)]
+        return [("T [K]", np.concatenate(Ts)), ("mfp [nm]", np.concatenate(self.mfp_nodes) * 1e9),
+                ("kappa_cumulative [W/(m K)]", np.concatenate(self.mfp_cumulative))]
+
+    def to_pandas(self, table: str = "spectrum"):
+        """``table="spectrum"`` (per frequency, :meth:`columns`) or ``"mean_free_path"``
+        (:meth:`mean_free_path_columns`) as a ``pandas.DataFrame`` (needs pandas)."""
+        if table not in ("spectrum", "mean_free_path"):
+            raise ConfigError("table", table, "spectrum or mean_free_path")
+        return frame(self.columns() if table == "spectrum" else self.mean_free_path_columns())
 
     def mfp_cumulative_at(self, t: int, mfp) -> np.ndarray:
         """K(Λ) at temperature index ``t`` for mean free paths ``mfp`` [m] → [W/(m K)]."""
