@@ -109,9 +109,22 @@ class Run:
 
         record = run_record(self.command, inputs=self.inputs, outputs=self.outputs,
                             **self._record)
+        tables = [w for name, w in self._writers if name.endswith((".csv", ".parquet"))]
+        others = [w for name, w in self._writers if not name.endswith((".csv", ".parquet"))]
         with output_folder(self.out, force=self.force, inputs=self.inputs) as tmp:
-            for _, write in self._writers:
-                write(tmp)
+            if tables and others:
+                # tables (numpy/pyarrow, mostly without the GIL) beside the figures (Agg)
+                from concurrent.futures import ThreadPoolExecutor
+
+                with ThreadPoolExecutor(max_workers=1) as pool:
+                    futures = [pool.submit(write, tmp) for write in tables]
+                    for write in others:
+                        write(tmp)
+                    for f in futures:
+                        f.result()
+            else:
+                for write in tables + others:
+                    write(tmp)
             write_json(tmp / "run.json", record)
         if report:
             typer.echo(f"wrote {self.out}/ ({', '.join(self.outputs)})")

@@ -51,15 +51,19 @@ def sweep_command(
                                              "folder beside the config).")] = None,
     force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")] = False,
     yes: Annotated[bool, typer.Option("--yes", help="Allow sweeps above 10^8 points.")] = False,
+    format_: Annotated[str | None, typer.Option("--format", help=common.FORMAT_HELP.replace(
+        "csv or parquet", "csv or parquet (pyarrow)"), show_default=False)] = None,
+    style: Annotated[str, typer.Option("--style", help=common.STYLE_HELP)] = "paper",
 ) -> None:
     from kappa.cli.run import Run
     from kappa.errors import ConfigError
     from kappa.io.config import derived_lines, load_config
     from kappa.io.grids import parse_temperatures, parse_vary
     from kappa.io.records import model_summary
-    from kappa.io.tables import axis_columns
     from kappa.workflows.sweep import MAX_POINTS, check_axes, grid_points, sweep
 
+    tables, figures = common.parse_formats(format_, tables=("csv", "parquet"))
+    common.use_style(style)
     cfg = load_config(config, set_ or [])
     model = cfg.model
     if not vary:
@@ -96,7 +100,7 @@ def sweep_command(
     from kappa.presentation.sweep import plot_sweep
 
     fig = plot_sweep(result)
-    names = axis_columns(axes)
+    names = result.column_names
     derived = dict(derived_lines(model))
     run.record(
         config=str(config),
@@ -113,20 +117,16 @@ def sweep_command(
         model_si=model_summary(model),
         citations=result.citations,
     )
-    long = result.long_form()
-    columns = [(n, a.parameter.shown(long[a.key])) for a, n in zip(axes, names, strict=True)]
-    columns += [("T [K]", long["temperature"]), ("kappa_L [W/(m K)]", long["kappa_L"]),
-                ("kappa_L_ratio [1]", long["kappa_L_ratio"])]
-    run.table("sweep.csv", columns)
-    run.figure("sweep", fig)
+    written = run.table("sweep.csv", result.columns(), tables)
+    run.figure("sweep", fig, figures)
     run.finish(report=False)
     for key, text in derived.items():
         common.echo_err(f"derived: {key} = {text}")
-    _summary(result, names, elapsed)
+    _summary(result, names, elapsed, f"{run.out}/{written[0]}")
     typer.echo(f"wrote {run.out}/ ({', '.join(run.outputs)})")
 
 
-def _summary(result, names: list[str], elapsed: float) -> None:
+def _summary(result, names: list[str], elapsed: float, source: str) -> None:
     from kappa.presentation.sweep import pick
 
     k, T, axes = result.kappa_L, result.temperature, result.axes
@@ -135,7 +135,7 @@ def _summary(result, names: list[str], elapsed: float) -> None:
     typer.echo(f"{n_sets} parameter sets x {T.size} temperatures = {k.size} points in "
                f"{elapsed:.2f} s{rate}")
     rows = []
-    for t in pick(T.size, 12):
+    for t in range(T.size):
         kt = k[..., t]
         lo, hi = np.unravel_index(np.argmin(kt), kt.shape), np.unravel_index(np.argmax(kt), kt.shape)
         where = [", ".join(f"{n.split(' [')[0]}={a.shown[i]:.4g}"
@@ -143,21 +143,28 @@ def _summary(result, names: list[str], elapsed: float) -> None:
                            for n, a, i in zip(names, axes, ix, strict=True)) for ix in (lo, hi)]
         rows.append([T[t], kt[lo], where[0], kt[hi], where[1], result.reference[t]])
     common.print_table(["T [K]", "min kappa_L", "at", "max kappa_L", "at", "config kappa_L"],
-                       rows)
+                       rows, source=source)
     if len(axes) == 1:
-        ts = pick(T.size, 5)
-        headers = [names[0]] + [f"kappa_L({T[t]:.4g} K)" for t in ts]
-        table = [[axes[0].shown[i]] + [k[i, t] for t in ts] for i in range(axes[0].values.size)]
+        headers = [names[0]] + [f"kappa_L at {T[t]:.6g} K" for t in range(T.size)]
+        table = [[axes[0].shown[i]] + [k[i, t] for t in range(T.size)]
+                 for i in range(axes[0].values.size)]
         typer.echo("")
-        common.print_table(headers, table)
+        common.print_table(headers[:9], [r[:9] for r in table], source=source,
+                           hidden_columns=headers[9:])
     elif len(axes) == 2:
         rows_i, cols_i = pick(axes[0].values.size, 10), pick(axes[1].values.size, 6)
         for t in pick(T.size, 3):
-            typer.echo(f"\nkappa_L [W/(m K)] at T = {T[t]:.4g} K (rows: {names[0]}, "
-                       f"columns: {names[1]}; thinned)")
+            typer.echo(f"\nkappa_L [W/(m K)] at T = {T[t]:.6g} K (rows: {names[0]}, "
+                       f"columns: {names[1]})")
             headers = [names[0].split(" [")[0]] + [f"{axes[1].shown[j]:.4g}" for j in cols_i]
             table = [[axes[0].shown[i]] + [k[i, j, t] for j in cols_i] for i in rows_i]
             common.print_table(headers, table)
+            if len(rows_i) < axes[0].values.size or len(cols_i) < axes[1].values.size:
+                typer.echo(f"{len(rows_i)} of {axes[0].values.size} rows and {len(cols_i)} of "
+                           f"{axes[1].values.size} columns of the grid shown, evenly spread; "
+                           f"every point in {source}")
+        if T.size > 3:
+            typer.echo(f"{min(3, T.size)} of {T.size} temperatures shown; all in {source}")
 
 
 def register(app: typer.Typer) -> None:

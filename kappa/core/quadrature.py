@@ -83,21 +83,25 @@ def rule(x_top: float) -> tuple[np.ndarray, np.ndarray]:
     x_top = min(float(x_top), X_CUT)
     x_m = min(x_top, X_SWITCH)
     lo = x_m * EPS_LOW
-    xs, qs = [], []
     edges = np.linspace(np.log(lo), np.log(x_m), LOG_PANELS + 1)
-    for a, b in zip(edges[:-1], edges[1:], strict=True):
-        u, qu = _panel(a, b, LOG_NODES)
-        x = np.exp(u)
-        xs.append(x)
-        qs.append(qu * x)  # dx = x du
+    u, qu = _panels(edges, LOG_NODES)  # all panels at once (same arithmetic as _panel)
+    x = np.exp(u)
+    xs, qs = [x], [qu * x]  # dx = x du
     if x_top > x_m:
         n_lin = int(np.ceil((x_top - x_m) / LIN_WIDTH - 1e-12))
         lin = np.linspace(x_m, x_top, n_lin + 1)
-        for a, b in zip(lin[:-1], lin[1:], strict=True):
-            x, q = _panel(a, b, LIN_NODES)
-            xs.append(x)
-            qs.append(q)
+        x, q = _panels(lin, LIN_NODES)
+        xs.append(x)
+        qs.append(q)
     return np.concatenate(xs), np.concatenate(qs)
+
+
+def _panels(edges: np.ndarray, n: int) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`_panel` for every pair of consecutive ``edges``, flattened in order."""
+    t, q = _GL[n]
+    a, b = edges[:-1, None], edges[1:, None]
+    half = 0.5 * (b - a)
+    return (a + half * (t + 1.0)).ravel(), (half * q).ravel()
 
 
 def lower_end(x_top: float) -> float:

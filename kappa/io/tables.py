@@ -229,18 +229,36 @@ def round_significant(values: np.ndarray, digits: int = 8) -> np.ndarray:
 ARROW_ROWS = 20_000
 
 
+def arrow_array(values: np.ndarray, round_floats: bool = False):
+    """A numeric numpy array as a pyarrow array, NaN as null (empty in CSV).
+
+    Built from the buffers: ``pyarrow.array`` would import pandas to inspect a numpy array.
+    """
+    import pyarrow as pa
+
+    a = np.asarray(values)
+    if a.dtype.kind == "b":
+        a = a.astype(np.int8)
+    if a.dtype.kind == "f":
+        a = round_significant(a) if round_floats else a.astype(np.float64)
+    a = np.ascontiguousarray(a)
+    types = {"f": pa.float64(), "i": pa.from_numpy_dtype(a.dtype),
+             "u": pa.from_numpy_dtype(a.dtype)}
+    if a.dtype.kind not in types:
+        return pa.array(a.tolist())
+    validity = None
+    if a.dtype.kind == "f":
+        nan = np.isnan(a)
+        if nan.any():
+            validity = pa.py_buffer(np.packbits(~nan, bitorder="little"))
+    return pa.Array.from_buffers(types[a.dtype.kind], a.size, [validity, pa.py_buffer(a)])
+
+
 def _arrow_table(headers: list[str], cols: list):
     import pyarrow as pa
 
-    arrays = []
-    for c in cols:
-        if c.dtype.kind == "b":
-            arrays.append(pa.array(c.astype(np.int8)))
-        elif c.dtype.kind in "iu":
-            arrays.append(pa.array(c))
-        else:
-            arrays.append(pa.array(round_significant(c), from_pandas=True))  # NaN → empty
-    return pa.Table.from_arrays(arrays, names=headers)
+    return pa.Table.from_arrays([arrow_array(c, round_floats=True) for c in cols],
+                                names=headers)
 
 
 def _write_arrow(fh, headers: list[str], cols: list) -> bool:
@@ -301,9 +319,7 @@ def write_parquet(path: str | Path, columns: Sequence[tuple[str, Iterable]]) -> 
     cols, _ = _check_lengths(columns)
     fields, arrays = [], []
     for (h, _), c in zip(columns, cols, strict=True):
-        a = np.asarray(c)
-        arr = pa.array(a.astype(np.int8) if a.dtype.kind == "b" else a,
-                       from_pandas=a.dtype.kind == "f")
+        arr = arrow_array(np.asarray(c))
         unit = h.split(" [", 1)[1][:-1] if " [" in h else ""
         fields.append(pa.field(h, arr.type, metadata={"unit": unit}))
         arrays.append(arr)

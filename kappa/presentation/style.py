@@ -15,7 +15,7 @@ canvas; pyplot's global state is never touched), so that all figures read alike:
   colour bar shared by all panels of a figure;
 * **styles** ``paper`` (default; 8-9 pt text for a printed page) and ``talk`` (larger text and
   lines for slides), applied with :func:`use` or :func:`context`;
-* **saving** (:func:`save`): PNG at 200 dpi, SVG with text kept as text, PDF with embedded
+* **saving** (:func:`save`): PNG at 150 dpi, SVG with text kept as text, PDF with embedded
   TrueType fonts;
 * **checks** (:func:`text_problems`): texts outside the canvas or overlapping each other,
   used by the tests on every figure.
@@ -25,6 +25,7 @@ from __future__ import annotations
 
 import contextlib
 import math
+import re
 from collections.abc import Iterator, Sequence
 from pathlib import Path
 
@@ -43,7 +44,7 @@ KAPPA_L_LABEL = r"$\kappa_L$ [W/(m K)]"
 KAPPA_LABEL = r"$\kappa$ [W/(m K)]"
 T_LABEL = r"$T$ [K]"
 FIGURE_FORMATS = ("png", "svg", "pdf")
-PNG_DPI = 200
+PNG_DPI = 150
 
 #: rcParams of each style (applied on top of matplotlib's defaults).
 STYLES: dict[str, dict] = {
@@ -158,10 +159,25 @@ def unit_text(unit: str) -> str:
     return _UNITS.get(unit, unit.replace("**", "^"))
 
 
+_GREEK = {"Γ": r"\Gamma", "Λ": r"\Lambda", "ε": r"\varepsilon", "γ": r"\gamma",
+          "κ": r"\kappa", "θ": r"\theta", "β": r"\beta", "τ": r"\tau", "ρ": r"\rho",
+          "σ": r"\sigma", "ν": r"\nu", "ω": r"\omega"}
+_SUBSCRIPT = re.compile(r"([A-Za-z" + "".join(_GREEK) + r"])_\{?([A-Za-z0-9]+)\}?")
+
+
+def mathtext(text: str) -> str:
+    r"""Symbols with subscripts as mathtext: ``Γ_M`` → ``$\Gamma_{M}$``."""
+    def sub(m: re.Match) -> str:
+        return f"${_GREEK.get(m.group(1), m.group(1))}_{{{m.group(2)}}}$"
+
+    return _SUBSCRIPT.sub(sub, text)
+
+
 def key_label(parameter, unit: bool = True) -> str:
     """Axis label of a key from its declaration: ``grain size [nm]``, ``specularity``."""
     u = unit_text(parameter.shown_unit)
-    return f"{parameter.label} [{u}]" if unit and u else parameter.label
+    label = mathtext(parameter.label)
+    return f"{label} [{u}]" if unit and u else label
 
 
 def value_text(parameter, value: float) -> str:
@@ -207,8 +223,8 @@ def fill_limits(ax, primary: Sequence, *, axis: str = "y", log: bool | None = No
         log = lo > 0 and hi / lo >= 8.0
     setter = ax.set_ylim if axis == "y" else ax.set_xlim
     if log and lo > 0:
-        log_axes(ax, x=axis == "x", y=axis == "y")
         span = math.log10(hi / lo)
+        log_axes(ax, x=axis == "x", y=axis == "y", decades=span * ax_scale(ax, axis))
         pad = max(margin * span, 0.02)
         setter(lo / 10 ** pad, hi * 10 ** pad)
     else:
@@ -220,22 +236,39 @@ def fill_limits(ax, primary: Sequence, *, axis: str = "y", log: bool | None = No
     return bool(log)
 
 
+def decades(values) -> float:
+    """Decades spanned by the positive finite ``values``."""
+    v = _finite([values])
+    v = v[v > 0]
+    return float(math.log10(v.max() / v.min())) if v.size >= 2 else 0.0
+
+
+def ax_scale(ax, axis: str = "y") -> float:
+    """How crowded an axis is compared with a 4-inch one (ticks per inch matter)."""
+    w, h = ax.figure.get_size_inches()
+    pos = ax.get_position()
+    length = (pos.height * h) if axis == "y" else (pos.width * w)
+    return 4.0 / max(length, 0.5)
+
+
 def leaves(values, limits: tuple[float, float]) -> bool:
     """True when some finite value lies outside ``limits`` (a curve leaving the panel)."""
     v = _finite([values])
     return bool(v.size and (v.min() < limits[0] * (1 - 1e-9) or v.max() > limits[1] * (1 + 1e-9)))
 
 
-def log_axes(ax, x: bool = True, y: bool = True) -> None:
-    """Log scales with plain-number tick labels at 1, 2, 5 × 10ⁿ (no overlapping minor labels)."""
+def log_axes(ax, x: bool = True, y: bool = True, decades: float | None = None) -> None:
+    """Log scales with plain-number tick labels at 1, 2, 5 × 10ⁿ, or at 10ⁿ only when the axis
+    spans more than two decades (``decades``), so that labels never crowd."""
     from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
 
     fmt = FuncFormatter(lambda v, _: _tick(v))
+    subs = (1.0,) if decades is not None and decades > 2.2 else (1.0, 2.0, 5.0)
     for flag, axis, setter in ((x, ax.xaxis, ax.set_xscale), (y, ax.yaxis, ax.set_yscale)):
         if not flag:
             continue
         setter("log")
-        axis.set_major_locator(LogLocator(base=10, subs=(1.0, 2.0, 5.0)))
+        axis.set_major_locator(LogLocator(base=10, subs=subs))
         axis.set_major_formatter(fmt)
         axis.set_minor_formatter(NullFormatter())
 

@@ -129,6 +129,7 @@ def _render(stream, headers, rows, max_rows, source, hidden_columns, width, colo
     from rich import box
     from rich.console import Console
     from rich.table import Table
+    from rich.text import Text
 
     rows = list(rows)
     shown, left_out = _rows_shown(len(rows), max_rows)
@@ -136,12 +137,12 @@ def _render(stream, headers, rows, max_rows, source, hidden_columns, width, colo
     table = Table(box=box.SIMPLE_HEAD, show_edge=False, pad_edge=False, header_style="bold",
                   highlight=False)
     for h in headers:
-        table.add_column(h, justify="right", no_wrap=True, overflow="fold")
+        table.add_column(Text(h), justify="right", no_wrap=True, overflow="fold")
     head = (max_rows + 1) // 2 if left_out else len(shown)
     for k, i in enumerate(shown):
         if left_out and k == head:
             table.add_row(*["…"] * len(headers), style="dim")
-        table.add_row(*[format_cell(v, exact[j]) for j, v in enumerate(rows[i])])
+        table.add_row(*[Text(format_cell(v, exact[j])) for j, v in enumerate(rows[i])])
     console = Console(file=stream, width=width or (None if color else 100_000),
                       force_terminal=color, no_color=not color, highlight=False,
                       soft_wrap=False)
