@@ -76,6 +76,9 @@ def alloy_command(
                                              "folder beside the first config).")] = None,
     force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")
                      ] = False,
+    format_: Annotated[str | None, typer.Option("--format", help=common.FORMAT_HELP,
+                                                show_default=False)] = None,
+    style: Annotated[str, typer.Option("--style", help=common.STYLE_HELP)] = "paper",
 ) -> None:
     from kappa.core.disorder import STRAIN_PARAMETER_SOURCE
     from kappa.errors import ConfigError, KappaError
@@ -83,9 +86,11 @@ def alloy_command(
     from kappa.io.grids import parse_temperatures
     from kappa.io.outdir import check_out, default_out, output_folder
     from kappa.io.records import model_summary, run_record, write_json
-    from kappa.io.tables import write_table
+    from kappa.io.tables import write_parquet, write_table
     from kappa.workflows.alloy import alloy_series
 
+    tables, figures = common.parse_formats(format_, tables=("csv", "parquet"))
+    common.use_style(style)
     x = parse_fractions(fraction)
     if not (strain_parameter >= 0 and np.isfinite(strain_parameter)):
         raise ConfigError("--strain-parameter", strain_parameter, "must be a number >= 0")
@@ -130,7 +135,7 @@ def alloy_command(
         end_members=[str(first), str(second)],
         fraction=fraction,
         fractions=x,
-        temperatures_K=T,
+        **{"temperatures [K]": T},
         strain_parameter=strain_parameter,
         strain_parameter_default=STRAIN_PARAMETER_SOURCE,
         disorder=m.disorder,
@@ -141,12 +146,13 @@ def alloy_command(
                "gruneisen and scattering parameters": "linear in x"},
         resolved_inputs={"first": configs[0].data, "second": configs[1].data},
         end_member_models=[model_summary(c.model) for c in configs],
-        outputs=["alloy.csv", "alloy.png", "alloy.svg", "run.json"],
+        outputs=[*(f"alloy.{t}" for t in tables), *(f"alloy.{f}" for f in figures), "run.json"],
         citations=series.citations,
     )
     with output_folder(out, force=force, inputs=[first, second]) as tmp:
-        write_table(tmp / "alloy.csv", columns)
-        save(fig, tmp / "alloy")
+        for t in tables:
+            (write_parquet if t == "parquet" else write_table)(tmp / f"alloy.{t}", columns)
+        save(fig, tmp / "alloy", figures)
         write_json(tmp / "run.json", record)
 
     typer.echo(f"disorder: {m.disorder}")
@@ -155,8 +161,9 @@ def alloy_command(
     rows = [[x[i], T[t], series.kappa_L[i, t], series.kappa_L_mass_only[i, t],
              m.mass_variance[i], m.strain_variance[i]] for i in range(nx) for t in range(nT)]
     common.print_table(["x", "T [K]", "kappa_L [W/(m K)]", "mass only", "Γ_M", "Γ_S"], rows,
-                       max_rows=24)
-    typer.echo(f"wrote {out}/alloy.csv, alloy.png, alloy.svg, run.json")
+                       max_rows=24, source=f"{out}/alloy.{tables[0]}")
+    names_written = [*(f"alloy.{t}" for t in tables), *(f"alloy.{f}" for f in figures)]
+    typer.echo(f"wrote {out}/{', '.join(names_written)}, run.json")
 
 
 def register(app: typer.Typer) -> None:

@@ -21,7 +21,6 @@ from typing import Any, TypeVar
 import typer
 
 from kappa.errors import KappaError, KappaWarning
-from kappa.io.records import collect_warnings
 
 F = TypeVar("F", bound=Callable[..., Any])
 
@@ -98,6 +97,8 @@ def handles_errors(func: F | None = None, *, command: str | None = None) -> Any:
         if not _state["depth"]:
             _printed.clear()  # a new command: its warnings are printed again
         _state["depth"] += 1
+        from kappa.io.records import collect_warnings
+
         with collect_warnings() as caught:
             try:
                 return func(*args, **kwargs)

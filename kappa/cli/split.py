@@ -313,6 +313,10 @@ def split_command(
     heat_capacity: Annotated[str | None, typer.Option(
         "--heat-capacity", help="Specific heat for the flash trio, if no file gives it, e.g. "
         "0.25J/(g K) (bare number: J/(g K)).", show_default=False)] = None,
+    format_: Annotated[str | None, typer.Option(
+        "--format", help="Figure files to write, comma-separated: png, svg, pdf (default "
+        "png,svg).", show_default=False)] = None,
+    style: Annotated[str, typer.Option("--style", help=common.STYLE_HELP)] = "paper",
 ) -> None:
     if fit_window is not None:
         if window is not None:
@@ -323,7 +327,8 @@ def split_command(
         number_density, sound_velocity = _cahill_from_config(config, number_density,
                                                              sound_velocity)
     reading = {"separator": separator, "decimal": decimal, "extrapolate": extrapolate or 0.0,
-               "density": density, "heat_capacity": heat_capacity}
+               "density": density, "heat_capacity": heat_capacity, "format": format_,
+               "style": style}
     _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, window,
          nan, draws, seed, number_density, sound_velocity, config, reading)
 
@@ -367,7 +372,10 @@ def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty
     inputs = [*files, *([config] if config is not None else [])]
     out = Path(out) if out is not None else default_out(files[0], "split")
     check_out(out, force=force, inputs=inputs)
-    m = _read_data(data, nan, composition, reading or {})
+    reading = dict(reading or {})
+    _, figures = common.parse_formats(reading.pop("format", None), tables=("csv",))
+    common.use_style(reading.pop("style", "paper"))
+    m = _read_data(data, nan, composition, reading)
     if m.seebeck is None and model in ("spb", "kim"):
         raise DataError(", ".join(p.name for p in data), "no column 'S [...]'",
                         f"a Seebeck column (e.g. 'S [uV/K]') is needed for --lorenz {model}; "
@@ -391,9 +399,10 @@ def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty
         options={"files": [str(p) for p in data], "lorenz": model,
                  "scattering_exponent": scattering_exponent, "composition": composition,
                  "uncertainty": r.uncertainty, "uncertainty_defaults": DEFAULT_UNCERTAINTY,
-                 "fit_window_K": list(window) if window else "automatic", "nan": nan,
-                 "draws": draws, "seed": seed, "number_density_per_m3": n_density,
-                 "sound_velocities_m_per_s": velocities,
+                 "fit_window [K]": list(window) if window else "automatic", "nan": nan,
+                 "draws": draws, "seed": seed, "number_density [1/m^3]": n_density,
+                 "sound_velocities [m/s]": velocities,
+                 "reading": {k: v for k, v in (reading or {}).items() if v},
                  "config": None if config is None else str(config)},
         measurements={"sources": m.sources, "heat_capacity": m.heat_capacity_source,
                       "dropped_rows": list(m.dropped), "notes": list(m.notes),
@@ -406,26 +415,24 @@ def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty
     # 2. write everything into a temporary folder, renamed to OUT only when complete
     with output_folder(out, force=force, inputs=inputs) as tmp:
         write_table(tmp / "split.csv", table_columns(r, m))
-        fig.savefig(tmp / "split.png", dpi=150)
-        fig.set_layout_engine("none")  # keep the layout just computed; saves a second pass
-        fig.savefig(tmp / "split.svg")
+        from kappa.presentation.style import save
+
+        save(fig, tmp / "split", figures)
         write_json(tmp / "run.json", record)
     # 3. terminal report
     headers = ["T [K]", "L [1e-8 W Ohm/K^2]", "kappa", "kappa_e", "kappa_L",
                "kappa_L 68%", "zT", "flags"]
     rows = []
-    n = r.temperature.size
-    shown = range(n) if n <= 12 else sorted({round(k * (n - 1) / 11) for k in range(12)})
-    for i in shown:
+    for i in range(r.temperature.size):  # print_table shows head and tail and says so
         t = r.temperature[i]
         rows.append([t, r.lorenz[i] * 1e8, r.kappa[i], r.kappa_e[i], r.kappa_L[i],
                      f"{r.kappa_L_low[i]:.3g}..{r.kappa_L_high[i]:.3g}",
                      np.nan if r.zT is None else r.zT[i], _flags(r, i)])
     typer.echo("conductivities in W/(m K)")
-    common.print_table(headers, rows)
+    common.print_table(headers, rows, source=f"{out}/split.csv")
     for line in lines:
         typer.echo(line)
-    typer.echo(f"Wrote {out}/ (split.csv, split.png, split.svg, run.json)")
+    typer.echo(f"wrote {out}/ (split.csv, {', '.join(f'split.{f}' for f in figures)}, run.json)")
 
 
 def _read_data(data, nan: str, composition: str | None, reading: dict) -> Measurements:
@@ -448,12 +455,12 @@ def _derived(r: SplitResult) -> dict:
     b = r.bipolar
     if b is not None:
         d["bipolar"] = {
-            "fit_window_K": list(b.fit_window), "window_auto": b.window_auto,
-            "A_W_per_m": b.coefficients[0], "B_W_per_mK": b.coefficients[1],
-            "onset_K": b.onset,
-            "seebeck_max_V_per_K": b.seebeck_max,
-            "temperature_at_seebeck_max_K": b.temperature_at_seebeck_max,
-            "goldsmid_sharp_gap_eV": None if b.gap is None else b.gap / 1.602176634e-19,
+            "fit_window [K]": list(b.fit_window), "window_auto": b.window_auto,
+            "A [W/m]": b.coefficients[0], "B [W/(m K)]": b.coefficients[1],
+            "onset [K]": b.onset,
+            "seebeck_max [V/K]": b.seebeck_max,
+            "temperature_at_seebeck_max [K]": b.temperature_at_seebeck_max,
+            "goldsmid_sharp_gap [eV]": None if b.gap is None else b.gap / 1.602176634e-19,
             "gap_note": b.gap_note,
         }
     return d

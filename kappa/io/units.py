@@ -127,8 +127,84 @@ def unit_factor(unit: str, target: str, key: str, *, error: type[KappaError] = C
     return result
 
 
-@functools.lru_cache(maxsize=1024)
+#: Version of the stored conversion factors (raise it when the unit definitions change).
+_STORE_VERSION = 1
+_store: dict = {}
+
+
+def _store_path() -> str:
+    import os
+
+    from kappa.core.cache import cache_root
+
+    root, _ = cache_root()
+    return os.path.join(root, "units", f"factors-{_STORE_VERSION}.json") if root else ""
+
+
+def _load_store() -> dict:
+    """Conversion factors found on earlier runs (unit, target → scale, offset), so that a run
+    whose units are all known does not load the units library at all (it takes 0.2 s)."""
+    if "factors" not in _store:
+        import json
+
+        factors: dict = {}
+        path = _store_path()
+        try:
+            with open(path, encoding="utf-8") as fh:
+                data = json.load(fh)
+            if data.get("pint") == _pint_version():
+                factors = {k: tuple(v) for k, v in data["factors"].items()
+                           if isinstance(v, list) and len(v) == 2}
+        except (OSError, ValueError, KeyError, TypeError, AttributeError):
+            factors = {}
+        _store["factors"] = factors
+    return _store["factors"]
+
+
+def _pint_version() -> str:
+    from importlib.metadata import PackageNotFoundError, version
+
+    try:
+        return version("pint")
+    except PackageNotFoundError:  # pragma: no cover - pint is a dependency
+        return ""
+
+
+def _remember(key: str, value: tuple[float, float]) -> None:
+    """Add a factor to the store on disk (atomically; nothing happens if it cannot be
+    written)."""
+    import json
+    import os
+    import tempfile
+
+    factors = _load_store()
+    factors[key] = value
+    path = _store_path()
+    if not path:
+        return
+    try:
+        os.makedirs(os.path.dirname(path), exist_ok=True)
+        fd, tmp = tempfile.mkstemp(dir=os.path.dirname(path), suffix=".partial")
+        with os.fdopen(fd, "w", encoding="utf-8") as fh:
+            json.dump({"pint": _pint_version(), "factors": factors}, fh)
+        os.replace(tmp, path)
+    except (OSError, ValueError):
+        pass
+
+
 def _factor(unit: str, target: str):
+    key = f"{unit}\x1f{target}"
+    hit = _load_store().get(key)
+    if hit is not None:
+        return hit
+    result = _factor_pint(unit, target)
+    if isinstance(result, tuple) and len(_load_store()) < 10_000:
+        _remember(key, result)
+    return result
+
+
+@functools.lru_cache(maxsize=1024)
+def _factor_pint(unit: str, target: str):
     ureg = registry()
     try:
         src = _unit(unit)

@@ -15,10 +15,11 @@ from kappa.presentation.style import (
     mechanism_title,
     new_figure,
     sequential_colors,
+    styled,
 )
 from kappa.workflows.predict import Prediction
 
-__all__ = ["plot_prediction", "add_legend", "short_title"]
+__all__ = ["plot_prediction", "add_legend", "short_title", "fixed_margins"]
 
 #: Titles longer than this are shortened with "…" (they must fit above the panel).
 TITLE_CHARS = 60
@@ -41,6 +42,7 @@ def add_legend(ax, outside_from: int = 6) -> None:
         ax.legend(handles, labels, loc="best")
 
 
+@styled
 def plot_prediction(prediction: Prediction, overlays: Sequence[tuple[str, Prediction]] = (),
                     ax=None, *, band=None, data=None, title: str | None = None):
     """κ_L(T): the model, each resistive mechanism switched off, optional overlays.
@@ -62,8 +64,9 @@ def plot_prediction(prediction: Prediction, overlays: Sequence[tuple[str, Predic
     a mechanism switched off and the minimum κ_L may leave it, which their legend entry says.
     Returns the figure.
     """
-    if ax is None:
-        fig, axes = new_figure()
+    own = ax is None
+    if own:  # fixed margins (no automatic layout pass: this figure is drawn on every run)
+        fig, axes = new_figure(layout=None)
         ax = axes[0, 0]
     else:
         fig = ax.figure
@@ -121,5 +124,25 @@ def plot_prediction(prediction: Prediction, overlays: Sequence[tuple[str, Predic
     if name:
         ax.set_title(short_title(name))
     ax.grid(True, which="major", alpha=0.3)
+    outside = len(ax.get_legend_handles_labels()[0]) >= 6
     add_legend(ax)
+    if own:
+        fixed_margins(fig, legend_beside=outside)
     return fig
+
+
+def fixed_margins(fig, legend_beside: bool = False, legend_width: float = 2.6) -> None:
+    """Margins in inches for a one-panel figure (room for labels, title and a legend beside).
+
+    The figure is widened by ``legend_width`` when the legend sits beside the panel.
+    """
+    from matplotlib import rcParams
+
+    w, h = fig.get_size_inches()
+    if legend_beside:
+        w += legend_width
+        fig.set_size_inches(w, h)
+    size = rcParams["font.size"] / 9.0  # margins grow with the style's text
+    left, bottom, top = 0.85 * size, 0.6 * size, 0.4 * size
+    right = (legend_width if legend_beside else 0.0) + 0.35 * size
+    fig.subplots_adjust(left=left / w, right=1 - right / w, bottom=bottom / h, top=1 - top / h)

@@ -55,7 +55,7 @@ STYLES: dict[str, dict] = {
         "lines.markersize": 4.0, "axes.linewidth": 0.8, "grid.linewidth": 0.5,
         "grid.alpha": 0.35, "legend.frameon": False, "axes.grid": False,
         "svg.fonttype": "none", "pdf.fonttype": 42, "mathtext.default": "regular",
-        "axes.titlelocation": "left",
+        "axes.titlelocation": "left", "axes.titley": 1.0, "axes.titlepad": 4.0,
     },
     "talk": {
         "font.size": 13.0, "axes.titlesize": 14.0, "axes.labelsize": 13.0,
@@ -64,7 +64,7 @@ STYLES: dict[str, dict] = {
         "lines.markersize": 6.5, "axes.linewidth": 1.2, "grid.linewidth": 0.7,
         "grid.alpha": 0.35, "legend.frameon": False, "axes.grid": False,
         "svg.fonttype": "none", "pdf.fonttype": 42, "mathtext.default": "regular",
-        "axes.titlelocation": "left",
+        "axes.titlelocation": "left", "axes.titley": 1.0, "axes.titlepad": 5.0,
     },
 }
 #: Figure sizes [in] per style (single panel); multi-panel figures scale from these.
@@ -73,13 +73,28 @@ _current = {"name": "paper"}
 
 
 def use(name: str = "paper") -> None:
-    """Make ``name`` the style of the figures made from now on (process-wide)."""
-    import matplotlib
+    """Make ``name`` the style of the figures kappa makes from now on.
 
+    matplotlib's global settings are not changed: each figure function and :func:`save` apply
+    the style to their own work only (:func:`styled`).
+    """
     if name not in STYLES:
         raise ValueError(f"style must be one of {', '.join(STYLES)}")
-    matplotlib.rcParams.update(STYLES[name])
     _current["name"] = name
+
+
+def styled(func):
+    """Run a figure function with the current style's settings (restored afterwards)."""
+    import functools
+
+    @functools.wraps(func)
+    def wrapper(*args, **kwargs):
+        import matplotlib
+
+        with matplotlib.rc_context(STYLES[_current["name"]]):
+            return func(*args, **kwargs)
+
+    return wrapper
 
 
 @contextlib.contextmanager
@@ -107,10 +122,6 @@ def new_figure(width: float | None = None, height: float | None = None, nrows: i
                ncols: int = 1, layout: str | None = "constrained", **kwargs
                ) -> tuple[Figure, np.ndarray]:
     """A figure with an Agg canvas and its axes (2-D array). Sizes default to the style's."""
-    import matplotlib
-
-    if matplotlib.rcParams.get("font.size") != STYLES[_current["name"]]["font.size"]:
-        matplotlib.rcParams.update(STYLES[_current["name"]])
     w0, h0 = base_size()
     scale = w0 / SIZES["paper"][0]
     fig = Figure(figsize=((width or w0 / scale) * scale, (height or h0 / scale) * scale),
@@ -120,6 +131,7 @@ def new_figure(width: float | None = None, height: float | None = None, nrows: i
     return fig, axes
 
 
+@styled
 def save(fig: Figure, stem: str | Path, formats: Sequence[str] = ("png", "svg")) -> list[Path]:
     """Write ``stem.FORMAT`` for each format (png, svg, pdf); return the paths.
 
@@ -364,11 +376,17 @@ def text_problems(fig: Figure, tolerance: float = 1.0) -> list[str]:
         if ext.width <= 0 or ext.height <= 0:
             continue
         texts.append((t, ext))
-    ticks = {}
+    ticks, hidden = {}, set()
     for ax in fig.axes:
         for axis in (ax.xaxis, ax.yaxis):
+            lo, hi = sorted(axis.get_view_interval())
+            span = (hi - lo) * 1e-9
             for tick in (*axis.get_major_ticks(), *axis.get_minor_ticks()):
                 ticks[id(tick.label1)] = ticks[id(tick.label2)] = (id(ax), id(axis))
+                loc = tick.get_loc()
+                if loc is None or not (lo - span <= loc <= hi + span):
+                    hidden.update((id(tick.label1), id(tick.label2)))  # not drawn
+    texts = [(t, e) for t, e in texts if id(t) not in hidden]
     problems = []
     for t, ext in texts:
         if (ext.x0 < box.x0 - tolerance or ext.y0 < box.y0 - tolerance
@@ -376,9 +394,6 @@ def text_problems(fig: Figure, tolerance: float = 1.0) -> list[str]:
             problems.append(f"outside the canvas: {t.get_text()!r}")
     for i, (a, ea) in enumerate(texts):
         for b, eb in texts[i + 1:]:
-            ga, gb = ticks.get(id(a)), ticks.get(id(b))
-            if ga is not None and ga == gb:
-                continue  # tick labels of one axis: matplotlib places them
             if getattr(a, "_kappa_inline", False) or getattr(b, "_kappa_inline", False):
                 continue
             w = min(ea.x1, eb.x1) - max(ea.x0, eb.x0)
@@ -391,7 +406,7 @@ def text_problems(fig: Figure, tolerance: float = 1.0) -> list[str]:
 # --- the prediction figure (kept here for callers of kappa.presentation.style) ---------------
 
 
-def plot_prediction(prediction, overlays=(), ax=None, **kwargs):
+def plot_prediction(prediction, overlays=(), ax=None, **kwargs):  # noqa: D103
     """See :func:`kappa.presentation.predict.plot_prediction`."""
     from kappa.presentation.predict import plot_prediction as _plot
 

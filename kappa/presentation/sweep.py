@@ -24,6 +24,7 @@ from kappa.presentation.style import (
     new_figure,
     round_levels,
     sequential_colors,
+    styled,
     value_text,
 )
 from kappa.workflows.spectrum import Spectrum
@@ -80,6 +81,7 @@ def _thin(n: int, most: int = MAP_CELLS) -> np.ndarray:
                                                     .astype(int))
 
 
+@styled
 def plot_sweep(result: SweepResult):
     """The sweep's figure: lines for one key, contour maps for two or more keys."""
     sizes = [a.values.size for a in result.axes]
@@ -96,6 +98,7 @@ def _held(result: SweepResult, keep: tuple[int, ...]) -> tuple[tuple, str]:
     return idx, ("; ".join(held))
 
 
+@styled
 def plot_sweep_lines(result: SweepResult, ax=None):
     """κ_L against the longest axis (others at their first value), one line per temperature
     (sequential colours: temperature is ordered); the config's value is marked."""
@@ -140,6 +143,7 @@ def plot_sweep_lines(result: SweepResult, ax=None):
     return fig
 
 
+@styled
 def plot_sweep_map(result: SweepResult, temperatures: list[int] | None = None):
     """Maps of κ_L over the first two keys, one panel per temperature, on one colour scale.
 
@@ -238,6 +242,7 @@ def _temperature_colors(sp: Spectrum) -> list:
     return sequential_colors(sp.temperature.size, "plasma")
 
 
+@styled
 def plot_spectral(sp: Spectrum, ax=None):
     """Spectral κ per THz against frequency: colour by temperature, line style by branch."""
     if ax is None:
@@ -280,6 +285,7 @@ def _length_text(nm: float) -> str:
     return f"{number_text(nm, 2)} nm"
 
 
+@styled
 def plot_cumulative(sp: Spectrum):
     """Two panels: κ carried below a frequency (per branch) and below a mean free path, with
     the mean free paths Λ₅₀ and Λ₈₀ marked and written beside their lines."""
@@ -335,6 +341,7 @@ def plot_cumulative(sp: Spectrum):
     return fig
 
 
+@styled
 def plot_rates(sp: Spectrum):
     """Scattering rate of each mechanism against frequency, one panel per temperature on
     shared axes (colour: mechanism, line style: branch)."""
