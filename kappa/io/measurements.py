@@ -139,6 +139,7 @@ def file_constants(table: Table) -> list[Constant]:
         value = m.group(2)
         if not _NUMBER_START.match(value):
             continue  # free text such as "density: measured by Archimedes"
+        value = _DECIMAL_COMMA.sub(r"\1.\2", value, count=1)  # 3,08 g/cm^3 (a lab's note)
         where = f"{table.source}, line {line} '{_short(text)}'"
         q = QUANTITIES[name]
         si = parse_quantity(value, q.si, where, error=DataError)
@@ -147,6 +148,7 @@ def file_constants(table: Table) -> list[Constant]:
 
 
 _NUMBER_START = re.compile(r"^[-+]?(?:\d|\.\d)")
+_DECIMAL_COMMA = re.compile(r"^([-+]?\d+),(\d+)")
 
 
 def _short(text: str, limit: int = 60) -> str:

@@ -131,14 +131,19 @@ def plot_prediction(prediction: Prediction, overlays: Sequence[tuple[str, Predic
     return fig
 
 
-def fixed_margins(fig, legend_beside: bool = False, legend_width: float = 2.6) -> None:
+def fixed_margins(fig, legend_beside: bool = False, legend_width: float | None = None) -> None:
     """Margins in inches for a one-panel figure (room for labels, title and a legend beside).
 
-    The figure is widened by ``legend_width`` when the legend sits beside the panel.
+    The figure is widened by the legend's width (measured) when it sits beside the panel.
     """
     from matplotlib import rcParams
 
     w, h = fig.get_size_inches()
+    legend = fig.axes[0].get_legend()
+    if legend_beside and legend_width is None and legend is not None:
+        extent = legend.get_window_extent(fig.canvas.get_renderer())
+        legend_width = extent.width / fig.dpi + 0.25
+    legend_width = legend_width or 0.0
     if legend_beside:
         w += legend_width
         fig.set_size_inches(w, h)

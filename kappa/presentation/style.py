@@ -288,7 +288,7 @@ def log_axes(ax, x: bool = True, y: bool = True, decades: float | None = None) -
 def _tick(v: float) -> str:
     if v == 0:
         return "0"
-    if 1e-3 <= abs(v) < 1e5:
+    if 1e-3 <= abs(v) < 1e4:
         return f"{v:g}"
     exp = math.floor(math.log10(abs(v)) + 1e-9)
     mant = v / 10**exp

@@ -159,8 +159,12 @@ def plot_sweep_map(result: SweepResult, temperatures: list[int] | None = None):
     ncols = min(n, 3)
     nrows = math.ceil(n / ncols)
     # fixed margins in inches (no automatic layout: a map is drawn once, quickly)
-    panel_w, panel_h, left, right, bottom, top, gap_w, gap_h = 3.0, 2.5, 0.8, 1.15, 0.6, 0.55, \
-        0.25, 0.45
+    from matplotlib import rcParams
+
+    size = rcParams["font.size"] / 9.0  # margins grow with the style's text
+    panel_w, panel_h = 3.0 * max(1.0, 0.8 * size), 2.5 * max(1.0, 0.8 * size)
+    left, right, bottom, top = 0.8 * size, 1.15 * size, 0.6 * size, 0.55 * size
+    gap_w, gap_h = 0.35 * size, 0.45 * size
     width = left + ncols * panel_w + (ncols - 1) * gap_w + right
     height = bottom + nrows * panel_h + (nrows - 1) * gap_h + top
     fig, axes = new_figure(width, height, nrows, ncols, layout=None, sharex=True, sharey=True)
@@ -216,7 +220,7 @@ def plot_sweep_map(result: SweepResult, temperatures: list[int] | None = None):
         axes[p // ncols, p % ncols].set_visible(False)
     used = [axes[p // ncols, p % ncols] for p in range(n)]
     cax = fig.add_axes([1 - (right - 0.2) / width, bottom / height, 0.14 / width,
-                        1 - (top + bottom) / height])
+                        1 - (top + bottom) / height], label="<colorbar>")
     cb = fig.colorbar(mesh, cax=cax, ticks=levels)
     cb.ax.minorticks_off()
     cb.set_ticklabels([level_text(v) for v in levels])
