@@ -34,9 +34,12 @@ kappa_e = L sigma T (Wiedemann-Franz), kappa_L = kappa - kappa_e (bipolar part i
 zT = S^2 sigma T / kappa, with 68 % Monte Carlo bands from relative measurement uncertainties,
 a bipolar check (A/T + B fit and extrapolation) and the Goldsmid-Sharp gap estimate.
 
-DATA files are CSV with 'name [unit]' headers: T, kappa (or the flash trio D, rho, cp),
-sigma or resistivity, S. Several files (e.g. flash and electrical data) are merged onto the
-temperatures of the thermal data by linear interpolation, never extrapolation.
+DATA files are tables with 'name [unit]' or 'name (unit)' headers: T, kappa (or the flash trio
+D, rho, cp), sigma or resistivity, S; comma-, semicolon- or tab-separated text (decimal commas
+detected) or .xlsx (BOOK.xlsx:SHEET for another sheet). A note '# rho = 3.08 g/cm^3' gives a
+value for the whole file. Several files (e.g. flash and electrical data) are merged onto the
+temperatures of the thermal data by linear interpolation; --extrapolate 5K allows a small
+extrapolation, reported per row.
 
 Writes OUT/split.csv, OUT/split.png, OUT/split.svg and OUT/run.json.
 
@@ -47,6 +50,7 @@ Examples:
   kappa split data.csv --lorenz kim --uncertainty kappa=0.08,sigma=0.05,S=0.05
   kappa split data.csv --lorenz spb --scattering-exponent 2 --window 300K:450K
   kappa split data.csv --lorenz 2.0e-8 --nan omit --draws 5000 --seed 7
+  kappa split flash.xlsx:HH-4 electrical.txt --density 3.08g/cm^3 --extrapolate 5K
 
 Limits: --draws 100 to 100,000; --seed >= 0; --scattering-exponent -0.9 to 4.
 """

@@ -35,7 +35,7 @@ from matplotlib.figure import Figure
 
 from kappa.core.mechanisms import REGISTRY
 
-__all__ = ["new_figure", "save", "log_axes", "mechanism_title", "key_label", "unit_text",
+__all__ = ["new_figure", "panel_figure", "save", "log_axes", "mechanism_title", "key_label", "unit_text",
            "value_text", "fill_limits", "round_levels", "sequential_colors", "use", "context",
            "text_problems", "STYLES", "FIGURE_FORMATS", "KAPPA_L_LABEL", "KAPPA_LABEL",
            "T_LABEL", "plot_prediction"]
@@ -148,6 +148,31 @@ def save(fig: Figure, stem: str | Path, formats: Sequence[str] = ("png", "svg"))
             fig.set_layout_engine("none")  # keep the layout just computed
         paths.append(p)
     return paths
+
+
+def panel_figure(nrows: int, ncols: int, panel: tuple[float, float] = (3.2, 2.6), *,
+                 beside: float = 0.0, title: bool = False, **kwargs) -> tuple[Figure, np.ndarray]:
+    """Panels of ``panel`` inches with fixed margins (no automatic layout pass, which costs
+    more than drawing), room for tick labels, axis labels and titles in the current style,
+    and ``beside`` inches on the right (a legend or colour bar). Returns (figure, axes)."""
+    import matplotlib
+
+    size = matplotlib.rcParams["font.size"] / 9.0
+    pw, ph = panel[0] * max(1.0, 0.8 * size), panel[1] * max(1.0, 0.8 * size)
+    left, right, bottom = 0.85 * size, 0.3 * size + beside, 0.6 * size
+    top = 0.4 * size + (0.3 * size if title else 0.0)
+    gap_w, gap_h = 0.85 * size, 0.6 * size
+    if kwargs.get("sharey"):
+        gap_w = 0.35 * size
+    if kwargs.get("sharex"):
+        gap_h = 0.4 * size
+    width = left + ncols * pw + (ncols - 1) * gap_w + right
+    height = bottom + nrows * ph + (nrows - 1) * gap_h + top
+    scale = base_size()[0] / SIZES["paper"][0]
+    fig, axes = new_figure(width / scale, height / scale, nrows, ncols, layout=None, **kwargs)
+    fig.subplots_adjust(left=left / width, right=1 - right / width, bottom=bottom / height,
+                        top=1 - top / height, wspace=gap_w / pw, hspace=gap_h / ph)
+    return fig, axes
 
 
 # --- words ----------------------------------------------------------------------------------
@@ -272,7 +297,7 @@ def leaves(values, limits: tuple[float, float]) -> bool:
 def log_axes(ax, x: bool = True, y: bool = True, decades: float | None = None) -> None:
     """Log scales with plain-number tick labels at 1, 2, 5 × 10ⁿ, or at 10ⁿ only when the axis
     spans more than two decades (``decades``), so that labels never crowd."""
-    from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
+    from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter, NullLocator
 
     fmt = FuncFormatter(lambda v, _: _tick(v))
     subs = (1.0,) if decades is not None and decades > 2.2 else (1.0, 2.0, 5.0)
@@ -283,6 +308,8 @@ def log_axes(ax, x: bool = True, y: bool = True, decades: float | None = None) -
         axis.set_major_locator(LogLocator(base=10, subs=subs))
         axis.set_major_formatter(fmt)
         axis.set_minor_formatter(NullFormatter())
+        if decades is not None and decades > 5:  # minor ticks would only clutter
+            axis.set_minor_locator(NullLocator())
 
 
 def _tick(v: float) -> str:

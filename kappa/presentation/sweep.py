@@ -15,13 +15,16 @@ import numpy as np
 
 from kappa.presentation.style import (
     KAPPA_L_LABEL,
+    SIZES,
     ax_scale,
+    base_size,
     decades,
     fill_limits,
     key_label,
     level_text,
     log_axes,
     new_figure,
+    panel_figure,
     round_levels,
     sequential_colors,
     styled,
@@ -73,6 +76,20 @@ def _config_value(result: SweepResult, d: int) -> float | None:
 
 
 MAP_CELLS = 300  #: most grid values per axis drawn in a map (the table keeps every point)
+
+
+def _columns(n: int) -> int:
+    """Columns of a grid of ``n`` panels (2 × 2 for four)."""
+    return 2 if n == 4 else min(n, 3)
+
+
+def _hide_unused(axes, n: int, nrows: int, ncols: int) -> None:
+    """Hide the empty cells of the last row; the panels above them show their x tick labels."""
+    for p in range(n, nrows * ncols):
+        axes[p // ncols, p % ncols].set_visible(False)
+        if p - ncols >= 0:
+            above = axes[(p - ncols) // ncols, p % ncols]
+            above.xaxis.set_tick_params(labelbottom=True)
 
 
 def _thin(n: int, most: int = MAP_CELLS) -> np.ndarray:
@@ -156,7 +173,7 @@ def plot_sweep_map(result: SweepResult, temperatures: list[int] | None = None):
     nT = result.temperature.size
     ts = temperatures if temperatures is not None else pick(nT, MAX_PANELS)
     n = len(ts)
-    ncols = min(n, 3)
+    ncols = _columns(n)
     nrows = math.ceil(n / ncols)
     # fixed margins in inches (no automatic layout: a map is drawn once, quickly)
     from matplotlib import rcParams
@@ -167,7 +184,9 @@ def plot_sweep_map(result: SweepResult, temperatures: list[int] | None = None):
     gap_w, gap_h = 0.35 * size, 0.45 * size
     width = left + ncols * panel_w + (ncols - 1) * gap_w + right
     height = bottom + nrows * panel_h + (nrows - 1) * gap_h + top
-    fig, axes = new_figure(width, height, nrows, ncols, layout=None, sharex=True, sharey=True)
+    scale = base_size()[0] / SIZES["paper"][0]  # new_figure scales sizes to the style
+    fig, axes = new_figure(width / scale, height / scale, nrows, ncols, layout=None,
+                           sharex=True, sharey=True)
     fig.subplots_adjust(left=left / width, right=1 - right / width, bottom=bottom / height,
                         top=1 - top / height, wspace=gap_w / panel_w, hspace=gap_h / panel_h)
     a0, a1 = result.axes[0], result.axes[1]
@@ -216,8 +235,7 @@ def plot_sweep_map(result: SweepResult, temperatures: list[int] | None = None):
         if p % ncols == 0:
             ax.set_ylabel(key_label(a1.parameter))
         ax.set_title(f"T = {_fmt_T(result.temperature[t])}")
-    for p in range(n, nrows * ncols):
-        axes[p // ncols, p % ncols].set_visible(False)
+    _hide_unused(axes, n, nrows, ncols)
     used = [axes[p // ncols, p % ncols] for p in range(n)]
     cax = fig.add_axes([1 - (right - 0.2) / width, bottom / height, 0.14 / width,
                         1 - (top + bottom) / height], label="<colorbar>")
@@ -256,10 +274,10 @@ def plot_spectral(sp: Spectrum, ax=None):
         fig = ax.figure
     colors = _temperature_colors(sp)
     for t in range(sp.temperature.size):
-        for j, label in enumerate(sp.branches):
+        for j in range(len(sp.branches)):
             ax.plot(sp.frequency[t, j] / 1e12, sp.spectral[t, j] * 1e12,
-                    color=colors[t], ls=_STYLES[j % 4],
-                    label=f"{_fmt_T(sp.temperature[t])}, {label}")
+                    color=colors[t], ls=_STYLES[j % 4])
+    _key(ax, sp, colors)
     ax.set_xlabel(r"frequency $\nu = \omega/2\pi$ [THz]")
     ax.set_ylabel(r"$\kappa$ per frequency [W/(m K THz)]")
     ax.set_xlim(left=0)
@@ -268,6 +286,18 @@ def plot_spectral(sp: Spectrum, ax=None):
     ax.grid(True, alpha=0.3)
     _legend(ax)
     return fig
+
+
+def _key(ax, sp: Spectrum, colors, extra=()) -> None:
+    """One legend entry per temperature (colour) and per branch (line style)."""
+    for t, color in enumerate(colors):
+        ax.plot([], [], color=color, label=_fmt_T(sp.temperature[t]))
+    if len(sp.branches) > 1:
+        for j, label in enumerate(sp.branches):
+            ax.plot([], [], color="0.35", ls=_STYLES[j % 4], label=label)
+    for label, ls in extra:
+        ax.plot([], [], color="0.35", lw=0.8, ls=ls, label=label)
+    _legend(ax)
 
 
 def _legend(ax, most_inside: int = 6) -> None:
@@ -293,21 +323,20 @@ def _length_text(nm: float) -> str:
 def plot_cumulative(sp: Spectrum):
     """Two panels: κ carried below a frequency (per branch) and below a mean free path, with
     the mean free paths Λ₅₀ and Λ₈₀ marked and written beside their lines."""
-    fig, axes = new_figure(10.0, 4.2, 1, 2)
+    fig, axes = panel_figure(1, 2, (4.0, 3.0), title=True)
     ax_f, ax_l = axes[0, 0], axes[0, 1]
     colors = _temperature_colors(sp)
     for t in range(sp.temperature.size):
         color = colors[t]
-        for j, label in enumerate(sp.branches):
+        for j in range(len(sp.branches)):
             ax_f.plot(sp.frequency[t, j] / 1e12, sp.cumulative[t, j], color=color,
-                      ls=_STYLES[j % 4], label=f"{_fmt_T(sp.temperature[t])}, {label}")
+                      ls=_STYLES[j % 4])
         lam, acc = sp.mfp_nodes[t], sp.mfp_cumulative[t]
         keep = lam <= lam[0] * 1e6 if lam.size > 2 else np.ones(lam.size, dtype=bool)
         if lam.size >= 2 and keep.sum() >= 2:
-            ax_l.plot(lam[keep] * 1e9, acc[keep], color=color, label=_fmt_T(sp.temperature[t]))
+            ax_l.plot(lam[keep] * 1e9, acc[keep], color=color)
         else:  # a single mean free path (e.g. boundary scattering only)
-            ax_l.plot([lam[0] * 1e9, lam[0] * 1e9], [0, acc[-1]], color=color,
-                      label=_fmt_T(sp.temperature[t]))
+            ax_l.plot([lam[0] * 1e9, lam[0] * 1e9], [0, acc[-1]], color=color)
     ax_f.set_xlabel(r"frequency $\nu$ [THz]")
     ax_f.set_ylabel(r"$\kappa$ carried below $\nu$ [W/(m K)]")
     ax_f.set_title("Cumulative over frequency")
@@ -337,10 +366,12 @@ def plot_cumulative(sp: Spectrum):
                 text.set_clip_on(True)
     ax_l.set_xlabel(r"mean free path $\Lambda$ [nm]")
     ax_l.set_ylabel(r"$\kappa_L$ carried below $\Lambda$ [W/(m K)]")
-    ax_l.set_title(r"Cumulative over mean free path (dashed $\Lambda_{50}$, dotted $\Lambda_{80}$)")
+    ax_l.set_title("Cumulative over mean free path")
     ax_f.grid(True, alpha=0.3)
     ax_l.grid(True, which="major", alpha=0.3)
-    _legend(ax_f)
+    _key(ax_f, sp, colors)
+    for label, ls in ((r"$\Lambda_{50}$", "--"), (r"$\Lambda_{80}$", ":")):
+        ax_l.plot([], [], color="0.35", lw=0.8, ls=ls, label=label)
     ax_l.legend(loc="lower right")
     return fig
 
@@ -352,10 +383,14 @@ def plot_rates(sp: Spectrum):
     from kappa.presentation.style import mechanism_title
 
     ts = pick(sp.temperature.size, MAX_PANELS)
-    ncols = min(len(ts), 3)
+    ncols = _columns(len(ts))
     nrows = math.ceil(len(ts) / ncols)
-    fig, axes = new_figure(4.2 * ncols + 1.6, 3.4 * nrows, nrows, ncols, sharex=True,
-                           sharey=True)
+    labels = [f"{mechanism_title(key)}, {b}" for key in sp.rates for b in sp.branches]
+    beside = 0.9 + 0.065 * max(len(t) for t in labels) if labels else 0.0
+    fig, axes = panel_figure(nrows, ncols, (3.0, 2.5), beside=beside, title=True, sharex=True,
+                             sharey=True)
+    freq = sp.frequency[sp.frequency > 0] / 1e12
+    rates = np.concatenate([r[r > 0] for r in sp.rates.values()]) if sp.rates else freq
     for p, t in enumerate(ts):
         ax = axes[p // ncols, p % ncols]
         for i, (key, r) in enumerate(sp.rates.items()):
@@ -365,17 +400,17 @@ def plot_rates(sp: Spectrum):
                 if ok.any():
                     ax.plot(sp.frequency[t, j][ok] / 1e12, y[ok], color=f"C{i % 10}",
                             ls=_STYLES[j % 4], label=f"{mechanism_title(key)}, {label}")
-        ax.set_xscale("log")
-        ax.set_yscale("log")
+        log_axes(ax, x=True, y=False, decades=decades(freq) * ax_scale(ax, "x"))
+        log_axes(ax, x=False, y=True, decades=decades(rates) * ax_scale(ax, "y"))
         if p // ncols == nrows - 1 or p + ncols >= len(ts):
             ax.set_xlabel(r"frequency $\nu$ [THz]")
         if p % ncols == 0:
             ax.set_ylabel(r"scattering rate $\tau^{-1}$ [1/s]")
         ax.set_title(f"T = {_fmt_T(sp.temperature[t])}")
         ax.grid(True, which="major", alpha=0.3)
-    for p in range(len(ts), nrows * ncols):
-        axes[p // ncols, p % ncols].set_visible(False)
+    _hide_unused(axes, len(ts), nrows, ncols)
     handles, labels = axes[0, 0].get_legend_handles_labels()
     if handles:
-        fig.legend(handles, labels, loc="outside right upper")
+        axes[0, ncols - 1].legend(handles, labels, loc="upper left", bbox_to_anchor=(1.04, 1.0),
+                                  borderaxespad=0.0)
     return fig
