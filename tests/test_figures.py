@@ -113,6 +113,12 @@ def test_sweep_maps_share_one_scale(model, name, temperatures):
     assert len({c.get_clim() for c in meshes}) == 1
     panel = fig.axes[0]
     assert any(ln.get_marker() == "*" for ln in panel.get_lines())  # the config's point
+    fitted = {"scattering.boundary.grain_size": (1e-6, 0.8e-6, 1.25e-6)}
+    with style.context(name):
+        fig = plot_sweep(grid, fitted=fitted)
+        _clean(fig)
+    labels = [t.get_text() for t in fig.axes[0].get_legend().get_texts()]
+    assert labels == ["config", "fitted (68 %)"]
 
 
 @pytest.mark.parametrize("name", STYLES)

@@ -141,6 +141,10 @@ def test_spreadsheet_first_and_named_sheet(tmp_path):
     assert m.seebeck[-1] == pytest.approx(-225e-6)
     t = read_table(book, sheet="electrical")
     assert t.source == "HH-4.xlsx, sheet 'electrical'" and list(t.rows) == [2, 3, 4, 5, 6]
+    other = _xlsx(tmp_path / "elec.xlsx", {"notes": [("# nothing here",)],
+                                           "electrical": elec_rows})
+    m2 = read_measurements([f"{book}:flash", other], sheet="electrical", extrapolate=5.0)
+    assert m2.kappa == pytest.approx(m.kappa)
 
 
 def test_split_command_reads_lab_files_and_reports(tmp_path):

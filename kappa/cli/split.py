@@ -307,6 +307,9 @@ def split_command(
     decimal: Annotated[str | None, typer.Option(
         "--decimal", help="Decimal mark of text files: point or comma (default: detected).",
         show_default=False)] = None,
+    sheet: Annotated[str | None, typer.Option(
+        "--sheet", help="Sheet of .xlsx files named without one (default: the first sheet; "
+        "BOOK.xlsx:SHEET names one per file).", show_default=False)] = None,
     extrapolate: Annotated[str | None, typer.Option(
         "--extrapolate", help="Allow a quantity to be extrapolated linearly this far beyond "
         "its measured range, e.g. 5K (each such row is reported; default: never).",
@@ -330,7 +333,8 @@ def split_command(
     if config is not None:
         number_density, sound_velocity = _cahill_from_config(config, number_density,
                                                              sound_velocity)
-    reading = {"separator": separator, "decimal": decimal, "extrapolate": extrapolate or 0.0,
+    reading = {"separator": separator, "decimal": decimal, "sheet": sheet,
+               "extrapolate": extrapolate or 0.0,
                "density": density, "heat_capacity": heat_capacity, "format": format_,
                "style": style}
     _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, window,

@@ -99,7 +99,8 @@ def sweep_command(
 
     from kappa.presentation.sweep import plot_sweep
 
-    fig = plot_sweep(result)
+    fitted = _fitted(config, axes)
+    fig = plot_sweep(result, fitted=fitted)
     names = result.column_names
     derived = dict(derived_lines(model))
     run.record(
@@ -126,7 +127,35 @@ def sweep_command(
     typer.echo(f"wrote {run.out}/ ({', '.join(run.outputs)})")
 
 
+def _fitted(config: Path, axes) -> dict | None:
+    """Fitted values and 68 % intervals [SI] of swept keys, from a fit.json beside the config
+    (a fitted.yaml written by 'kappa fit'); None without one."""
+    import math
+
+    from kappa.errors import KappaError
+    from kappa.io.fitfiles import read_fit_record
+
+    path = config.parent / "fit.json"
+    if not path.is_file():
+        return None
+    try:
+        record = read_fit_record(path)
+    except KappaError:
+        return None
+    out = {}
+    for i, key in enumerate(record.keys):
+        if key not in {a.key for a in axes}:
+            continue
+        v, sd = record.values[i], math.sqrt(max(float(record.matrix[i, i]), 0.0))
+        if not math.isfinite(sd):
+            continue
+        out[key] = ((v, v * math.exp(-sd), v * math.exp(sd)) if record.spaces[i] == "log"
+                    else (v, v - sd, v + sd))
+    return out or None
+
+
 def _summary(result, names: list[str], elapsed: float, source: str) -> None:
+    from kappa.presentation.style import number_text
     from kappa.presentation.sweep import pick
 
     k, T, axes = result.kappa_L, result.temperature, result.axes
@@ -138,7 +167,7 @@ def _summary(result, names: list[str], elapsed: float, source: str) -> None:
     for t in range(T.size):
         kt = k[..., t]
         lo, hi = np.unravel_index(np.argmin(kt), kt.shape), np.unravel_index(np.argmax(kt), kt.shape)
-        where = [", ".join(f"{n.split(' [')[0]}={a.shown[i]:.4g}"
+        where = [", ".join(f"{n.split(' [')[0]} {number_text(float(a.shown[i]), 4)}"
                            + ("" if a.unit in ("1", "") else f" {a.unit}")
                            for n, a, i in zip(names, axes, ix, strict=True)) for ix in (lo, hi)]
         rows.append([T[t], kt[lo], where[0], kt[hi], where[1], result.reference[t]])

@@ -109,9 +109,14 @@ def _convert(table: Table, name: str) -> MeasuredColumn:
     return MeasuredColumn(values, blank, where, col.values)
 
 
-def _read(path: str | Path, separator: str | None, decimal: str | None) -> Table:
+def _read(path: str | Path, separator: str | None, decimal: str | None,
+          sheet: str | None = None) -> Table:
+    from kappa.io.labfiles import SPREADSHEETS, split_sheet
+
+    file, named = split_sheet(path)
+    sheet = sheet if (sheet and not named and file.suffix.lower() in SPREADSHEETS) else None
     try:
-        return read_table(path, separator=separator, decimal=decimal)
+        return read_table(path, separator=separator, decimal=decimal, sheet=sheet)
     except DataError as exc:
         if str(exc.allowed).startswith("every column header"):
             raise DataError(exc.key, exc.value,
@@ -214,7 +219,8 @@ def _measured_file(table: Table) -> MeasuredFile:
 def read_measurements(paths: str | Path | Sequence[str | Path], *, nan: str = "raise",
                       composition: str | None = None, separator: str | None = None,
                       decimal: str | None = None, extrapolate: float | str = 0.0,
-                      constants: Sequence[Constant] = ()) -> Measurements:
+                      constants: Sequence[Constant] = (), sheet: str | None = None
+                      ) -> Measurements:
     """Read one or more measurement files and merge them onto one temperature grid.
 
     Parameters
@@ -234,6 +240,8 @@ def read_measurements(paths: str | Path | Sequence[str | Path], *, nan: str = "r
         temperature difference such as ``"5K"``); default 0, never.
     constants : sequence of Constant
         Density or heat capacity given once for the run (:func:`parse_constants`).
+    sheet : str, optional
+        The sheet read from spreadsheets named without one (default: their first sheet).
 
     Returns
     -------
@@ -258,7 +266,7 @@ def read_measurements(paths: str | Path | Sequence[str | Path], *, nan: str = "r
         from kappa.core.composition import mean_molar_mass
 
         mean_molar_mass(composition, "--composition")  # validate before reading
-    tables = [_read(p, sep, dec) for p in paths]
+    tables = [_read(p, sep, dec, sheet) for p in paths]
     seen: dict[str, str] = {}
     for p, t in zip(paths, tables, strict=True):
         if t.source in seen:

@@ -99,11 +99,15 @@ def _thin(n: int, most: int = MAP_CELLS) -> np.ndarray:
 
 
 @styled
-def plot_sweep(result: SweepResult):
-    """The sweep's figure: lines for one key, contour maps for two or more keys."""
+def plot_sweep(result: SweepResult, fitted: dict | None = None):
+    """The sweep's figure: lines for one key, contour maps for two or more keys.
+
+    ``fitted`` maps swept keys to (value, low, high) [SI] of a fit (68 % interval); the fitted
+    point is marked with its interval on maps.
+    """
     sizes = [a.values.size for a in result.axes]
     if len(sizes) >= 2 and sizes[0] >= 2 and sizes[1] >= 2:
-        return plot_sweep_map(result)
+        return plot_sweep_map(result, fitted=fitted)
     return plot_sweep_lines(result)
 
 
@@ -116,6 +120,28 @@ def _held(result: SweepResult, keep: tuple[int, ...]) -> tuple[tuple, str]:
 
 
 @styled
+def _fitted_marks(result: SweepResult, fitted: dict | None):
+    """((x, y), (xerr, yerr)) of a fitted point on a map, in display units (None: none)."""
+    if not fitted:
+        return None
+    point, errs = [], []
+    for d in (0, 1):
+        a = result.axes[d]
+        if a.key in fitted:
+            v, lo, hi = (float(a.parameter.shown(u)) for u in fitted[a.key])
+            point.append(v)
+            errs.append([[v - lo], [hi - v]])
+        else:
+            v = _config_value(result, d)
+            if v is None:
+                return None
+            point.append(v)
+            errs.append(None)
+    if all(e is None for e in errs):
+        return None
+    return tuple(point), tuple(errs)
+
+
 def plot_sweep_lines(result: SweepResult, ax=None):
     """κ_L against the longest axis (others at their first value), one line per temperature
     (sequential colours: temperature is ordered); the config's value is marked."""
@@ -161,7 +187,8 @@ def plot_sweep_lines(result: SweepResult, ax=None):
 
 
 @styled
-def plot_sweep_map(result: SweepResult, temperatures: list[int] | None = None):
+def plot_sweep_map(result: SweepResult, temperatures: list[int] | None = None,
+                   fitted: dict | None = None):
     """Maps of κ_L over the first two keys, one panel per temperature, on one colour scale.
 
     All panels share the colour scale and its colour bar; iso-κ lines sit at round levels
@@ -208,8 +235,8 @@ def plot_sweep_map(result: SweepResult, temperatures: list[int] | None = None):
     for p, t in enumerate(ts):
         ax = axes[p // ncols, p % ncols]
         z = k2[np.ix_(sx, sy, [t])][:, :, 0].T  # rows: y, columns: x (thinned)
-        mesh = ax.pcolormesh(x[sx], y[sy], z, shading="nearest", norm=norm, cmap="viridis",
-                             rasterized=True)
+        mesh = ax.pcolormesh(x[sx], y[sy], z, shading="gouraud" if z.size <= 20_000 else
+                             "nearest", norm=norm, cmap="viridis", rasterized=True)
         zf = z[np.isfinite(z)]
         inner = [v for v in levels if zf.size and zf.min() < v < zf.max()]
         if inner:
@@ -224,6 +251,12 @@ def plot_sweep_map(result: SweepResult, temperatures: list[int] | None = None):
         if None not in ref:
             ax.plot([ref[0]], [ref[1]], marker="*", ms=10, color="white", mec="black",
                     mew=0.8, ls="none", label="config", clip_on=True)
+        marks = _fitted_marks(result, fitted)
+        if marks is not None:
+            (fx, fy), (xerr, yerr) = marks
+            ax.errorbar([fx], [fy], xerr=xerr, yerr=yerr, fmt="o", ms=4, color="white",
+                        mec="black", ecolor="white", elinewidth=1.2, capsize=2,
+                        label="fitted (68 %)")
         if _log_scale(x, a0.log):
             log_axes(ax, x=True, y=False, decades=decades(x) * ax_scale(ax, "x"))
         if _log_scale(y, a1.log):
@@ -243,7 +276,7 @@ def plot_sweep_map(result: SweepResult, temperatures: list[int] | None = None):
     cb.ax.minorticks_off()
     cb.set_ticklabels([level_text(v) for v in levels])
     cb.set_label(KAPPA_L_LABEL)
-    if None not in ref:
+    if None not in ref or fitted:
         used[0].legend(loc="upper right", fontsize="x-small", framealpha=0.8, frameon=True)
     words = []
     if note:
