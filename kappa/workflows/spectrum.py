@@ -57,7 +57,7 @@ _GRID = 1200  #: samples of Λ(x) per branch (log-spaced)
 _LAM_SLACK = 1e-13  #: Λ(x) within this relative distance of Λ counts as "≤ Λ" (constant Λ(x))
 _BISECT = 120  #: most root-finding steps in ln x for an interval end (from one grid cell)
 _ROOT_TOL = 4e-16  #: relative width in ln x at which an interval end counts as found
-_LAM_GRID = 257  #: mean free paths on which K(Λ) is tabulated to bracket the quantiles
+_LAM_GRID = 65  #: mean free paths on which K(Λ) is tabulated to bracket the quantiles
 
 
 @dataclass(frozen=True)
