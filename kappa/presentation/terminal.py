@@ -136,8 +136,10 @@ def _render(stream, headers, rows, max_rows, source, hidden_columns, width, colo
     exact = [_exact_column(h) for h in headers]
     table = Table(box=box.SIMPLE_HEAD, show_edge=False, pad_edge=False, header_style="bold",
                   highlight=False)
-    for h in headers:
-        table.add_column(Text(h), justify="right", no_wrap=True, overflow="fold")
+    for j, h in enumerate(headers):
+        text = all(isinstance(rows[i][j], str) for i in shown) and bool(shown)
+        table.add_column(Text(h), justify="left" if text else "right", no_wrap=True,
+                         overflow="fold")
     head = (max_rows + 1) // 2 if left_out else len(shown)
     for k, i in enumerate(shown):
         if left_out and k == head:
