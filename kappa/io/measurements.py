@@ -257,9 +257,13 @@ def read_measurements(paths: str | Path | Sequence[str | Path], *, nan: str = "r
     sep, dec = parse_separator(separator, "separator"), parse_decimal(decimal, "decimal")
     if sep is not None and sep == dec:
         raise DataError("decimal", decimal, "the decimal mark must differ from the separator")
+    written = extrapolate
     if isinstance(extrapolate, str):
         extrapolate = parse_temperature_difference(extrapolate, "extrapolate", error=DataError)
-    extrapolate = check_extrapolation(extrapolate)
+    try:
+        extrapolate = check_extrapolation(extrapolate)
+    except DataError as exc:
+        raise DataError("extrapolate", written, exc.allowed) from None
     if isinstance(paths, (str, Path)):
         paths = [paths]
     if composition:
