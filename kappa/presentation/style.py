@@ -433,7 +433,7 @@ def text_problems(fig: Figure, tolerance: float = 1.0) -> list[str]:
 # --- the prediction figure (kept here for callers of kappa.presentation.style) ---------------
 
 
-def plot_prediction(prediction, overlays=(), ax=None, **kwargs):  # noqa: D103
+def plot_prediction(prediction, overlays=(), ax=None, **kwargs):
     """See :func:`kappa.presentation.predict.plot_prediction`."""
     from kappa.presentation.predict import plot_prediction as _plot
 
