@@ -156,7 +156,8 @@ class _FigureProcess:
         self.read_fd = -1
         self.own = list(jobs)
         cores = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else 1
-        if len(jobs) < 2 or cores < 2 or not sys.platform.startswith("linux"):
+        if (len(jobs) < 2 or cores < 2 or not sys.platform.startswith("linux")
+                or os.environ.get("KAPPA_FIGURE_PROCESSES") == "1"):
             return
         # PNG costs about twice an SVG or PDF: give the child about half of the work
         cost = [2.0 if fmt == "png" else 1.0 for _, _, fmt in jobs]
