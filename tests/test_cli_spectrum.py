@@ -48,7 +48,7 @@ def test_spectrum_outputs(cfg, tmp_path):
     r = runner.invoke(app, ["spectrum", str(cfg), "--at", "300K", "--at", "600K", "-o", str(out)])
     assert r.exit_code == 0, r.output
     names = {p.name for p in out.iterdir()}
-    assert {"spectrum.csv", "cumulative_mfp.csv", "run.json", "spectral.png", "cumulative.png",
+    assert {"spectrum.csv", "kappa_by_mean_free_path.csv", "run.json", "spectral.png", "cumulative.png",
             "rates.png", "rates.svg"} <= names
     with open(out / "spectrum.csv", encoding="utf-8") as fh:
         rows = list(csv.DictReader(fh))
@@ -60,7 +60,7 @@ def test_spectrum_outputs(cfg, tmp_path):
     ref = conductivity(config.model, [300.0, 600.0])
     last_300 = [r for r in rows if r["T [K]"] == "300"][-1]
     assert float(last_300["kappa_cumulative [W/(m K)]"]) == pytest.approx(ref[0], rel=1e-7)
-    mfp = read_table(out / "cumulative_mfp.csv")
+    mfp = read_table(out / "kappa_by_mean_free_path.csv")
     T = mfp.get("T", "K")
     acc = mfp.get("kappa_cumulative", "W/(m K)")
     assert acc[T == 600.0][-1] == pytest.approx(ref[1], rel=1e-6)

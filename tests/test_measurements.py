@@ -125,7 +125,7 @@ BAD = [
      "a.csv = no electrical conductivity: needs a column 'sigma [S/cm]'"),
     ("kappa [W/(m K)],sigma [S/m]\n1,1\n1,1\n1,1\n", "a.csv = no column 'T [...]'"),
     ("T [K],kappa,sigma [S/m]\n300,1,1\n400,1,1\n500,1,1\n",
-     "a.csv, header = kappa: every column header must be 'name [unit]'; accepted: T [K], kappa"),
+     "a.csv, header = kappa: every column header must be 'name [unit]' or 'name (unit)'; accepted: T [K], kappa"),
     ("T [K],kappa [W/(m K)],sigma [K]\n300,1,1\n400,1,1\n500,1,1\n",
      "a.csv, column 'sigma [K]' = K: wrong dimension for the electrical conductivity: use e.g. "
      "S/cm, S/m"),

@@ -118,7 +118,7 @@ def test_seebeck_in_wrong_unit_warns_and_gives_no_gap(tmp_path):
     assert len([w for w in warnings if "is the unit right" in w]) == 1, result.stderr
     assert "1.505e+05 uV/K, above 2,000 uV/K" in result.stderr
     derived = json.loads((out / "run.json").read_text())["derived"]["bipolar"]
-    assert derived["goldsmid_sharp_gap_eV"] is None
+    assert derived["goldsmid_sharp_gap [eV]"] is None
     assert "not estimated" in derived["gap_note"]
     assert "Goldsmid-Sharp gap: not estimated" in result.output
 

@@ -193,6 +193,8 @@ def test_scenarios_equal_kappa_predict_set(done, tmp_path):
 
     fitted = done.out / "2-fit" / "samples" / "A" / "fitted.yaml"
     curves = done.out / "4-scenarios" / "kappa_L_curves.csv"
+    head, rows = _csv(curves)
+    names = np.array([r[head.index("scenario")] for r in rows])
     for s, _, w in done.scenarios:
         sets = [f"{k}={v}" for k, v in s.changes.items()]
         out = tmp_path / f"p{len(list(tmp_path.iterdir()))}"
@@ -203,8 +205,9 @@ def test_scenarios_equal_kappa_predict_set(done, tmp_path):
         assert r.exit_code == 0, r.output
         theirs = _column(out / "kappa_L.csv", "kappa_L [W/(m K)]")
         grid = _column(out / "kappa_L.csv", "T [K]")
-        np.testing.assert_array_equal(grid, _column(curves, "T [K]"))
-        np.testing.assert_allclose(_column(curves, f"kappa_L({s.name}) [W/(m K)]"), theirs,
+        mine = names == s.name  # long form: this scenario's rows
+        np.testing.assert_array_equal(grid, _column(curves, "T [K]")[mine])
+        np.testing.assert_allclose(_column(curves, "kappa_L [W/(m K)]")[mine], theirs,
                                    rtol=1e-7)  # both as written (8 digits)
         model = load_config(fitted, sets).model  # full precision through the library
         np.testing.assert_allclose(w.at(grid).kappa_L, predict(model, grid).kappa_L,
@@ -335,7 +338,7 @@ def test_bad_data_in_the_first_step_leaves_nothing(tmp_path):
     r = runner.invoke(app, ["study", str(path), "-o", str(out)])
     lines = [line for line in r.output.splitlines() if line.strip()]
     assert r.exit_code == 2 and len(lines) == 1, r.output
-    assert lines[0].startswith("error: study step 1-split failed (nothing written): B.csv, row")
+    assert lines[0].startswith("error: study step 1-split failed (nothing written): B.csv, line")
     assert not out.exists()
 
 
@@ -462,3 +465,24 @@ def test_report_renders_completely_in_chromium(done, tmp_path):
     assert head[:8] == b"\x89PNG\r\n\x1a\n"
     assert int.from_bytes(head[16:20], "big") == 1280
     assert shot.stat().st_size > 100_000  # a page of figures and tables, not a blank one
+
+
+def test_every_table_header_and_record_key_in_the_study_folder_has_one_style(done):
+    """`name [unit]` headers without `=` or parentheses, and no unit glued to a record key
+    (`onset_K`, `..._per_m3`) anywhere in the study's folders (common practice, no source)."""
+    from tests.test_outputs import HEADER, _keys
+
+    tables = list(done.out.rglob("*.csv"))
+    assert tables
+    for path in tables:
+        head, _ = _csv(path)
+        # correlation.csv is a matrix labelled by keys (SAMPLE:key for per-sample ones)
+        bad = [h for h in head if not (HEADER.match(h) or h in ("scenario", "changes",
+                                                                 "sample", "key", "branch")
+                                       or (path.name == "correlation.csv"
+                                           and re.fullmatch(r"[\w.:-]+", h)))]
+        assert not bad, (path.relative_to(done.out), bad)
+    for path in done.out.rglob("run.json"):
+        keys = _keys(json.loads(path.read_text(encoding="utf-8")), [])
+        bad = [k for k in keys if re.search(r"_(K|eV|s|nm|m)$|_per_", k)]
+        assert not bad, (path.relative_to(done.out), bad)

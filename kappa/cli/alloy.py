@@ -10,7 +10,7 @@ import typer
 
 from . import common
 
-HELP = f"""κ_L across the alloy series (1-x)·A + x·B of two end-member configs.
+HELP = """κ_L across the alloy series (1-x)·A + x·B of two end-member configs.
 
 Virtual crystal: mean mass linear in x; lattice constant linear (Vegard's law, δ = V0^(1/3));
 elastic moduli ρv² linear, velocities from them and the interpolated density; Grüneisen
@@ -38,8 +38,6 @@ Examples:
 
   kappa alloy mg2si.yaml mg2sn.yaml --fraction 0,0.2,0.4,0.6 --at 300K,600K
       --strain-parameter 60 -o mgsisn
-
-{common.CAUTION}
 """
 
 
@@ -92,6 +90,9 @@ def alloy_command(
     draws: Annotated[int, typer.Option("--draws", help="Parameter sets drawn for --fit "
                                        "(50 to 100,000).")] = 200,
     seed: Annotated[int, typer.Option("--seed", min=0, help="Seed of the --fit draws.")] = 0,
+    format_: Annotated[str | None, typer.Option("--format", help=common.FORMAT_HELP,
+                                                show_default=False)] = None,
+    style: Annotated[str, typer.Option("--style", help=common.STYLE_HELP)] = "paper",
 ) -> None:
     from kappa.cli.whatif import record as what_if_record
     from kappa.core.disorder import STRAIN_PARAMETER_SOURCE
@@ -100,9 +101,11 @@ def alloy_command(
     from kappa.io.grids import parse_temperatures
     from kappa.io.outdir import check_out, default_out, output_folder
     from kappa.io.records import model_summary, run_record, write_json
-    from kappa.io.tables import write_table
+    from kappa.io.tables import write_parquet, write_table
     from kappa.workflows.alloy import alloy_series
 
+    tables, figures = common.parse_formats(format_, tables=("csv", "parquet"))
+    common.use_style(style)
     x = parse_fractions(fraction)
     if not (strain_parameter >= 0 and np.isfinite(strain_parameter)):
         raise ConfigError("--strain-parameter", strain_parameter, "must be a number >= 0")
@@ -175,7 +178,7 @@ def alloy_command(
         end_members=[str(first), str(second)],
         fraction=fraction,
         fractions=x,
-        temperatures_K=T,
+        **{"temperatures [K]": T},
         strain_parameter=strain_parameter,
         strain_parameter_default=STRAIN_PARAMETER_SOURCE,
         disorder=m.disorder,
@@ -187,12 +190,13 @@ def alloy_command(
         resolved_inputs={"first": configs[0].data, "second": configs[1].data},
         end_member_models=[model_summary(c.model) for c in configs],
         what_if=None if answers is None else what_if_record(answers, fit, seed),
-        outputs=["alloy.csv", "alloy.png", "alloy.svg", "run.json"],
+        outputs=[*(f"alloy.{t}" for t in tables), *(f"alloy.{f}" for f in figures), "run.json"],
         citations=series.citations,
     )
     with output_folder(out, force=force, inputs=inputs) as tmp:
-        write_table(tmp / "alloy.csv", columns)
-        save(fig, tmp / "alloy")
+        for t in tables:
+            (write_parquet if t == "parquet" else write_table)(tmp / f"alloy.{t}", columns)
+        save(fig, tmp / "alloy", figures)
         write_json(tmp / "run.json", record)
 
     typer.echo(f"disorder: {m.disorder}")
@@ -209,12 +213,13 @@ def alloy_command(
                     f"{w.ratio[i, t]:.4g} ({w.ratio_low[i, t]:.4g} .. {w.ratio_high[i, t]:.4g})",
                     "yes" if w.pinned[i, t] else "NO"]
         headers += ["68 %", f"ratio to {first.stem} (68 %)", "pinned"]
-    common.print_table(headers, rows, max_rows=24)
+    common.print_table(headers, rows, max_rows=24, source=f"{out}/alloy.{tables[0]}")
     if answers is not None:
         from kappa.cli.whatif import print_flags
 
         print_flags(answers, [f"x={v:.4g}" for v in x])
-    typer.echo(f"wrote {out}/alloy.csv, alloy.png, alloy.svg, run.json")
+    names_written = [*(f"alloy.{t}" for t in tables), *(f"alloy.{f}" for f in figures)]
+    typer.echo(f"wrote {out}/{', '.join(names_written)}, run.json")
 
 
 def register(app: typer.Typer) -> None:

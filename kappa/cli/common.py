@@ -21,7 +21,6 @@ from typing import Any, TypeVar
 import typer
 
 from kappa.errors import KappaError, KappaWarning
-from kappa.io.records import collect_warnings
 
 F = TypeVar("F", bound=Callable[..., Any])
 
@@ -98,6 +97,8 @@ def handles_errors(func: F | None = None, *, command: str | None = None) -> Any:
         if not _state["depth"]:
             _printed.clear()  # a new command: its warnings are printed again
         _state["depth"] += 1
+        from kappa.io.records import collect_warnings
+
         with collect_warnings() as caught:
             try:
                 return func(*args, **kwargs)
@@ -136,6 +137,48 @@ def _flush_warnings(caught: list) -> None:
         elif debug():
             echo_err(f"warning: {w.message}")
     caught.clear()
+
+
+#: What ``--format`` accepts: table formats and figure formats.
+TABLE_FORMATS = ("csv", "parquet")
+FIGURE_FORMATS = ("png", "svg", "pdf")
+FORMAT_HELP = ("Files to write, comma-separated: tables csv or parquet, figures png, svg, pdf "
+               "(default csv,png,svg; a kind not named keeps its default).")
+STYLE_HELP = "Figure style: paper (print) or talk (larger text and lines for slides)."
+
+
+def parse_formats(text: str | None, tables: Sequence[str] = ("csv",)
+                  ) -> tuple[list[str], list[str]]:
+    """``--format csv,pdf`` → (table formats, figure formats); each kind keeps its default
+    (csv; png and svg) when none of its formats is named. ``tables`` lists what the command
+    can write (``parquet`` only where offered)."""
+    from kappa.errors import ConfigError
+
+    if text is None or not text.strip():
+        return ["csv"], ["png", "svg"]
+    items = [t.strip().lower().lstrip(".") for t in text.split(",") if t.strip()]
+    allowed = [*tables, *FIGURE_FORMATS]
+    for item in items:
+        if item not in allowed:
+            raise ConfigError("--format", item, f"a comma list of {', '.join(allowed)}")
+    table = [t for t in dict.fromkeys(items) if t in TABLE_FORMATS] or ["csv"]
+    figure = [t for t in dict.fromkeys(items) if t in FIGURE_FORMATS] or ["png", "svg"]
+    if "parquet" in table:
+        from kappa.io.tables import parquet_library
+
+        parquet_library()
+    return table, figure
+
+
+def use_style(name: str) -> None:
+    """Apply the figure style ``paper`` or ``talk`` for this command."""
+    from kappa.errors import ConfigError
+
+    if name not in ("paper", "talk"):
+        raise ConfigError("--style", name, "paper or talk")
+    from kappa.presentation.style import use
+
+    use(name)
 
 
 def quiet_matplotlib_config() -> None:
@@ -193,30 +236,15 @@ class Bar:
 
 
 def print_table(headers: Sequence[str], rows: Sequence[Sequence[Any]], *, max_rows: int = 12,
+                source: str | None = None, hidden_columns: Sequence[str] = (),
                 stream=None) -> None:
-    """Print a small aligned table; long tables are thinned to about ``max_rows`` rows."""
-    stream = stream or sys.stdout
-    rows = list(rows)
-    if len(rows) > max_rows:
-        step = (len(rows) - 1) / (max_rows - 1)
-        rows = [rows[round(i * step)] for i in range(max_rows)]
-    cells = [[_cell(v) for v in row] for row in rows]
-    widths = [max(len(h), *(len(r[i]) for r in cells)) if cells else len(h)
-              for i, h in enumerate(headers)]
-    line = "  ".join(h.rjust(w) for h, w in zip(headers, widths, strict=True))
-    print(line, file=stream)
-    print("  ".join("-" * w for w in widths), file=stream)
-    for r in cells:
-        print("  ".join(c.rjust(w) for c, w in zip(r, widths, strict=True)), file=stream)
+    """Print a table on the terminal: the one way every command prints tables.
 
+    Long tables show their first and last rows and one line ``… N more rows …``, and name
+    ``source`` (the file that holds them all); see :func:`kappa.presentation.terminal.
+    print_table`.
+    """
+    from kappa.presentation.terminal import print_table as _print
 
-def _cell(v: Any) -> str:
-    if isinstance(v, str):
-        return v
-    try:
-        f = float(v)
-    except (TypeError, ValueError):
-        return str(v)
-    if f != f:
-        return "-"
-    return f"{f:.4g}"
+    _print(headers, rows, max_rows=max_rows, source=source, hidden_columns=hidden_columns,
+           stream=stream)

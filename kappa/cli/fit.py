@@ -10,7 +10,7 @@ import typer
 
 from . import common
 
-HELP = f"""Fit free parameters of a config to measured lattice conductivity κ_L(T).
+HELP = """Fit free parameters of a config to measured lattice conductivity κ_L(T).
 
 DATA is a CSV with 'T [K]' and 'kappa_L [W/(m K)]' (any units of the right dimension), e.g. the
 split.csv of 'kappa split'. Uncertainties (--errors): with 'kappa_L_err_random' and
@@ -47,10 +47,9 @@ Examples:
       --window 100K:600K -o fit1
   kappa fit --series series.yaml -o series-fit
   kappa fit my.yaml old.csv --free material.gruneisen --errors total -o fit2
+  kappa predict fit1/fitted.yaml --band -o fit1-band
   kappa predict fit1/fitted.yaml --fit fit1/fit.json \
       --compare scattering.boundary.grain_size=1um,100nm -o what-if
-
-{common.CAUTION}
 """
 
 

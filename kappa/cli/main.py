@@ -8,19 +8,32 @@ import typer
 
 from . import common
 
-app = typer.Typer(
-    name="kappa",
-    help=(
-        "Lattice thermal conductivity of solids: Callaway/Debye predictions, lattice/electronic "
-        "split of measured data, fits and parameter sweeps, and whole studies from measured "
-        "samples to a report ('kappa study'; try 'kappa demo -o demo-report').\n\n"
-        + common.CAUTION
-    ),
-    no_args_is_help=True,
-    pretty_exceptions_enable=False,
-    add_completion=False,
-    rich_markup_mode=None,
+HELP = (
+    "Lattice thermal conductivity of solids: Callaway/Debye predictions, lattice/electronic "
+    "split of measured data, fits and parameter sweeps, and whole studies from measured "
+    "samples to a report ('kappa study'; try 'kappa demo -o demo-report').\n\n"
+    + common.CAUTION
 )
+
+#: Command modules in ``kappa/cli/``; each defines ``register(app)``.
+COMMANDS: list[str] = ["new", "check", "predict", "split", "fit", "sweep", "spectrum",
+                       "disorder", "material", "alloy", "study", "demo"]
+
+#: One line per command for the top-level help (the modules are imported only when needed).
+SUMMARY = {
+    "new": "Write a commented starter config to edit.",
+    "check": "Validate a config and print the resolved values, derived quantities and keys.",
+    "predict": "Predict the lattice thermal conductivity κ_L(T) of a config.",
+    "split": "Split measured thermal conductivity into lattice and electronic parts.",
+    "fit": "Fit free parameters of a config to measured lattice conductivity κ_L(T).",
+    "sweep": "Sweep one or more config keys over a grid and compute κ_L at every point.",
+    "spectrum": "Split κ_L over phonon frequency and mean free path at given temperatures.",
+    "disorder": "Mean atomic mass and point-defect disorder Γ of a composition.",
+    "material": "A material from its sound velocities, density and composition.",
+    "alloy": "κ_L across the alloy series (1-x)·A + x·B of two end-member configs.",
+    "study": "A whole study from measured samples to a report (split, fit, what-if, zT).",
+    "demo": "Run the bundled demo study (an invented lab's sample series) into a report.",
+}
 
 
 def _print_version(flag: bool) -> None:
@@ -31,7 +44,6 @@ def _print_version(flag: bool) -> None:
         raise typer.Exit(0)
 
 
-@app.callback()
 def _main(
     debug: Annotated[bool, typer.Option("--debug", help="Show full tracebacks on errors.")] = False,
     version: Annotated[bool, typer.Option("--version", help="Print the version and exit.",
@@ -40,20 +52,44 @@ def _main(
     common.set_debug(debug)
 
 
-def _register() -> None:
-    """Add every command module's command to ``app`` (one line per command)."""
+def build_app(commands: list[str] | None = None) -> typer.Typer:
+    """The ``kappa`` application with the given commands loaded (default: all).
+
+    The other commands are listed (name and one line) but their modules are not imported, so
+    that ``kappa --help`` and ``kappa --version`` start fast; naming a command loads it.
+    """
     import importlib
 
+    application = typer.Typer(name="kappa", help=HELP, no_args_is_help=True,
+                              pretty_exceptions_enable=False, add_completion=False,
+                              rich_markup_mode=None)
+    application.callback()(_main)
+    loaded = COMMANDS if commands is None else commands
     for name in COMMANDS:
-        module = importlib.import_module(f"kappa.cli.{name}")
-        module.register(app)
+        if name in loaded:
+            importlib.import_module(f"kappa.cli.{name}").register(application)
+        else:
+            application.command(name, help=SUMMARY[name], add_help_option=False,
+                                context_settings={"ignore_unknown_options": True,
+                                                  "allow_extra_args": True})(_not_loaded)
+    return application
 
 
-#: Command modules in ``kappa/cli/``; each defines ``register(app)``.
-COMMANDS: list[str] = ["new", "check", "predict", "split", "fit", "sweep", "spectrum",
-                       "disorder", "material", "alloy", "study", "demo"]
+def _not_loaded() -> None:  # pragma: no cover - run() loads every command it is asked for
+    raise RuntimeError("command not loaded")
 
-_register()
+
+def __getattr__(name: str):
+    if name == "app":  # the full application (tests, python -m kappa): every command loaded
+        application = build_app()
+        globals()["app"] = application
+        return application
+    raise AttributeError(name)
+
+
+def _requested(argv: list[str]) -> list[str]:
+    """The command named on the command line (the first argument that is one), if any."""
+    return [a for a in argv if a in COMMANDS][:1]
 
 
 def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
@@ -83,8 +119,9 @@ def run() -> None:
 
     warnings.showwarning = _show_warning
     common.quiet_matplotlib_config()
+    application = build_app(_requested(sys.argv[1:]))
     try:
-        code = app(standalone_mode=False)  # Ctrl-C: typer returns 130
+        code = application(standalone_mode=False)  # Ctrl-C: typer returns 130
     except Interrupted as exc:  # SIGTERM or SIGHUP while an output folder was written
         common.echo_err(f"aborted ({signal.Signals(exc.signum).name})")
         sys.exit(128 + exc.signum)

@@ -9,12 +9,14 @@ import typer
 
 from . import common
 
-HELP = f"""Predict the lattice thermal conductivity κ_L(T) of a config.
+HELP = """Predict the lattice thermal conductivity κ_L(T) of a config.
 
 Writes OUT/kappa_L.csv (T, κ_L, κ_L with each resistive mechanism switched off, the acoustic
 and optical parts when material.atoms_per_cell > 1 (κ_L is their sum), per-branch parts,
 Debye heat capacity), OUT/kappa_L.png and .svg, and OUT/run.json (resolved inputs,
-derived values, version, citations), and prints a short table.
+derived values, version, citations), and prints a short table. With --compare also
+OUT/compare.csv in long form: one row per value and temperature, columns KEY [unit], T [K],
+kappa_L [W/(m K)].
 
 Examples:
 
@@ -26,22 +28,23 @@ Examples:
 
   kappa predict fit1/fitted.yaml --band --draws 400 --seed 0 -o fit1-band
 
+  kappa predict my.yaml --style talk --format png,pdf -o slides
+
   kappa predict fit1/fitted.yaml --fit fit1/fit.json
       --compare scattering.boundary.grain_size=1um,100nm,20nm -o what-if
 
 --band (for a fitted.yaml written by 'kappa fit') draws parameter sets from the fit's
 covariance (fit.json beside the config) and adds the 16th/84th percentiles of κ_L as
-kappa_L_low/kappa_L_high columns and a shaded band.
+kappa_L_low/kappa_L_high columns and a shaded band, with the fitted data (residuals.csv
+beside the config) as points.
 
 --fit FIT.json (the record written with the fitted.yaml) does the same and gives every
---compare curve its 68 % interval and the ratio to the fitted sample with its interval
-(kappa_L_low(...), kappa_L_high(...), kappa_L_ratio(...), kappa_L_ratio_low(...),
-kappa_L_ratio_high(...), pinned(...) columns; bands in the figure). An answer whose interval
+--compare curve its 68 % interval and the ratio to the fitted sample with its interval:
+compare.csv then adds kappa_L_low, kappa_L_high, kappa_L_ratio, kappa_L_ratio_low,
+kappa_L_ratio_high and pinned columns (bands in the figure). An answer whose interval
 includes no change or spans more than a factor of two is "not pinned by the data": pinned = 0,
 hatched in the figure, and a line on the terminal. The record must belong to the config
 (its keys in the config, the config's values the fitted ones), else exit 2.
-
-{common.CAUTION}
 """
 
 
@@ -66,15 +69,22 @@ def predict_command(
                                        "and --fit.")] = 400,
     seed: Annotated[int, typer.Option("--seed", min=0, help="Seed of the --band and --fit "
                                       "draws.")] = 0,
+    format_: Annotated[str | None, typer.Option("--format", help=common.FORMAT_HELP,
+                                                show_default=False)] = None,
+    style: Annotated[str, typer.Option("--style", help=common.STYLE_HELP)] = "paper",
 ) -> None:
+    import numpy as np
+
     from kappa.cli.run import Run
     from kappa.cli.whatif import record as what_if_record
     from kappa.errors import ConfigError
     from kappa.io.config import derived_lines, load_config
     from kappa.io.grids import parse_key_values
     from kappa.io.records import model_summary
-    from kappa.workflows.predict import compare, predict
+    from kappa.workflows.predict import compare, comparison_columns, predict
 
+    tables, figures = common.parse_formats(format_)
+    common.use_style(style)
     cfg = load_config(config, set_ or [])
     T = cfg.require_temperature()
     record_path = fit if fit is not None else (config.parent / "fit.json" if band else None)
@@ -87,15 +97,19 @@ def predict_command(
         cov = load_fit(fit, model)
     run = Run("predict", out, force=force, inputs=inputs, beside=config)
     prediction = predict(model, T)
-    overlays = []
-    key = values = None
+    overlays, compared, order = [], None, None
     if compare_:
+        from kappa.presentation.style import value_text
+
         key, values, texts = parse_key_values(model, compare_, "--compare")
-        leaf = key.split(".")[-1]
-        overlays = [(f"{leaf}={text}", p)
-                    for text, p in zip(texts, compare(model, key, values, T), strict=True)]
-    columns = [("T [K]", prediction.temperature), ("kappa_L [W/(m K)]", prediction.kappa_L)]
-    fit_band = answers = None
+        parameter = model.parameter(key)
+        curves = compare(model, key, values, T)
+        order = np.argsort(values)
+        overlays = [(f"{parameter.label} = {value_text(parameter, values[i])}", curves[i])
+                    for i in order]
+        compared = (key, parameter, values, curves)
+    columns = prediction.columns()
+    fit_band = answers = data = None
     if band or fit is not None:
         from kappa.io.fitfiles import read_fit_record
         from kappa.workflows.fitting import prediction_band
@@ -103,54 +117,46 @@ def predict_command(
         if cov is None:
             cov = read_fit_record(config.parent / "fit.json")
         fit_band = prediction_band(model, cov, T, draws=draws, seed=seed)
-        columns += [("kappa_L_low [W/(m K)]", fit_band.low),
-                    ("kappa_L_high [W/(m K)]", fit_band.high)]
-    if overlays:
-        columns += [(f"kappa_L({label}) [W/(m K)]", p.kappa_L) for label, p in overlays]
-    if overlays and fit is not None:
-        from kappa.workflows.whatif import what_if
+        columns[2:2] = [("kappa_L_low [W/(m K)]", fit_band.low),
+                        ("kappa_L_high [W/(m K)]", fit_band.high)]
+        data = _fitted_data((fit if fit is not None else config).parent / "residuals.csv")
+    comparison = None
+    if compared is not None:
+        comparison = comparison_columns(*compared)
+        if fit is not None:
+            from kappa.workflows.whatif import what_if
 
-        try:
-            answers = what_if(model, cov, {key: values}, T, draws=draws, seed=seed)
-        except ConfigError as exc:
-            raise exc.renamed({"draws": "--draws", "seed": "--seed"}.get(exc.key, exc.key)
-                              ) from None
-        for i, (label, _) in enumerate(overlays):
-            columns += [(f"kappa_L_low({label}) [W/(m K)]", answers.low[i]),
-                        (f"kappa_L_high({label}) [W/(m K)]", answers.high[i]),
-                        (f"kappa_L_ratio({label}) [1]", answers.ratio[i]),
-                        (f"kappa_L_ratio_low({label}) [1]", answers.ratio_low[i]),
-                        (f"kappa_L_ratio_high({label}) [1]", answers.ratio_high[i]),
-                        (f"pinned({label}) [1]", answers.pinned[i].astype(int))]
-    for key, k in prediction.without.items():
-        columns.append((f"kappa_L_without_{key} [W/(m K)]", k))
-    if prediction.optical is not None:
-        columns += [("kappa_L_acoustic [W/(m K)]", prediction.acoustic),
-                    ("kappa_L_optical [W/(m K)]", prediction.optical)]
-    if model.material.per_branch:
-        for label, k in prediction.branches.items():
-            columns.append((f"kappa_L_{label} [W/(m K)]", k))
-    columns.append(("C_V [J/(mol K)]", prediction.molar_heat_capacity))
+            try:
+                answers = what_if(model, cov, {key: values}, T, draws=draws, seed=seed)
+            except ConfigError as exc:
+                raise exc.renamed({"draws": "--draws", "seed": "--seed"}.get(exc.key, exc.key)
+                                  ) from None
+            comparison += [("kappa_L_low [W/(m K)]", answers.low.ravel()),
+                           ("kappa_L_high [W/(m K)]", answers.high.ravel()),
+                           ("kappa_L_ratio [1]", answers.ratio.ravel()),
+                           ("kappa_L_ratio_low [1]", answers.ratio_low.ravel()),
+                           ("kappa_L_ratio_high [1]", answers.ratio_high.ravel()),
+                           ("pinned [1]", answers.pinned.ravel().astype(int))]
 
-    from kappa.presentation.style import plot_prediction
+    from kappa.presentation.predict import plot_prediction
 
     if fit_band is not None:  # the band is the point of the figure: leave out the other curves
         import dataclasses
 
-        fig = plot_prediction(dataclasses.replace(prediction, without={}), overlays)
+        fig = plot_prediction(dataclasses.replace(prediction, without={}), overlays,
+                              band=(fit_band.temperature, fit_band.low, fit_band.high),
+                              data=data)
     else:
         fig = plot_prediction(prediction, overlays)
     if answers is not None:
         from kappa.presentation.whatif import add_overlay_bands
 
-        add_overlay_bands(fig, answers)
-    elif fit_band is not None:
-        from kappa.presentation.fit import add_band
-
-        add_band(fig.axes[0], fit_band.temperature, fit_band.low, fit_band.high)
+        add_overlay_bands(fig, answers, order)
     derived = dict(derived_lines(model))
-    run.table("kappa_L.csv", columns)
-    run.figure("kappa_L", fig)
+    written = run.table("kappa_L.csv", columns, tables)
+    if compared is not None:
+        written += run.table("compare.csv", comparison, tables)
+    run.figure("kappa_L", fig, figures)
     run.record(
         config=str(config),
         overrides=list(set_ or []),
@@ -169,11 +175,24 @@ def predict_command(
     run.finish(report=False)
     for key, text in derived.items():
         common.echo_err(f"derived: {key} = {text}")
-    headers = [h for h, _ in columns if not h.startswith("C_V")][:6]
-    rows = list(zip(*[v for h, v in columns if h in headers], strict=True))
-    common.print_table(headers, rows)
-    if answers is not None:
-        _print_answers(answers, [label for label, _ in overlays])
+    if compared is not None:
+        key, parameter, values, curves = compared
+        from kappa.presentation.style import value_text
+
+        headers = ["T [K]", *[value_text(parameter, values[i]) for i in np.argsort(values)]]
+        rows = list(zip(T, *[curves[i].kappa_L for i in np.argsort(values)], strict=True))
+        typer.echo(f"kappa_L [W/(m K)] for {parameter.label} =")
+        common.print_table(headers, rows, source=f"{run.out}/{written[-1]}")
+        if answers is not None:
+            labels = [""] * len(overlays)  # in the order of the values given
+            for position, i in enumerate(order):
+                labels[i] = overlays[position][0]
+            _print_answers(answers, labels)
+    else:
+        shown = [h for h, _ in columns if not h.startswith("C_V")][:7]
+        hidden = [h for h, _ in columns if h not in shown]
+        rows = list(zip(*[v for h, v in columns if h in shown], strict=True))
+        common.print_table(shown, rows, source=f"{run.out}/{written[0]}", hidden_columns=hidden)
     typer.echo(f"wrote {run.out}/ ({', '.join(run.outputs)})")
 
 
@@ -193,6 +212,21 @@ def _print_answers(w, labels: list[str]) -> None:
     common.print_table(["scenario", "T [K]", "kappa_L", "68 %", "ratio", "ratio 68 %",
                         "pinned"], rows, max_rows=48)
     print_flags(w, labels)
+
+
+def _fitted_data(path: Path):
+    """(T, kappa_L, error or None) of the fit's data from residuals.csv, if it is there."""
+    if not path.is_file():
+        return None
+    from kappa.errors import KappaError
+    from kappa.io.tables import read_table
+
+    try:
+        t = read_table(path)
+        err = t.get("kappa_L_err", "W/(m K)") if "kappa_L_err" in t else None
+        return t.get("T", "K"), t.get("kappa_L", "W/(m K)"), err
+    except KappaError:
+        return None
 
 
 def register(app: typer.Typer) -> None:

@@ -9,14 +9,14 @@ import typer
 
 from . import common
 
-HELP = f"""Split κ_L over phonon frequency and mean free path at given temperatures.
+HELP = """Split κ_L over phonon frequency and mean free path at given temperatures.
 
 Writes OUT/spectrum.csv (per temperature, branch and frequency ν = ω/2π: spectral κ
 [W/(m K THz)], κ carried below ν, mean free path, and the rate of every active scattering
-mechanism), OUT/cumulative_mfp.csv (κ_L carried by phonons with mean free path up to Λ, all
-branches merged; its last value is κ_L), figures spectral.png, cumulative.png, rates.png (and
-.svg), and OUT/run.json; prints the mean free paths below which 50 % and 80 % of the heat is
-carried (Λ50, Λ80).
+mechanism), OUT/kappa_by_mean_free_path.csv (κ_L carried by phonons with mean free path up to
+Λ, all branches merged; its last value is κ_L), figures spectral.png, cumulative.png,
+rates.png (and .svg), and OUT/run.json; prints the mean free paths below which 50 % and 80 %
+of the heat is carried (Λ50, Λ80).
 
 With normal processes each phonon gets Callaway's effective relaxation time
 τ_eff = τ_c(1 + β/τ_N), β = I₂/I₃, so that the parts add up to κ_L; mean free path Λ = v·τ_eff.
@@ -26,8 +26,6 @@ Examples:
   kappa spectrum my.yaml --at 300K -o spec300
 
   kappa spectrum my.yaml --at 300K,600K --set scattering.boundary.grain_size=100nm -o spec
-
-{common.CAUTION}
 """
 
 
@@ -41,6 +39,9 @@ def spectrum_command(
     out: Annotated[Path | None, typer.Option("-o", "--out", help="Output folder (default: a new "
                                              "folder beside the config).")] = None,
     force: Annotated[bool, typer.Option("--force", help="Replace an existing output folder.")] = False,
+    format_: Annotated[str | None, typer.Option("--format", help=common.FORMAT_HELP,
+                                                show_default=False)] = None,
+    style: Annotated[str, typer.Option("--style", help=common.STYLE_HELP)] = "paper",
 ) -> None:
     from kappa.cli.run import Run
     from kappa.errors import ConfigError
@@ -49,6 +50,8 @@ def spectrum_command(
     from kappa.io.records import model_summary
     from kappa.workflows.spectrum import MAX_TEMPERATURES, spectrum
 
+    tables, figures = common.parse_formats(format_)
+    common.use_style(style)
     cfg = load_config(config, set_ or [])
     model = cfg.model
     if not at:
@@ -62,11 +65,11 @@ def spectrum_command(
 
     from kappa.presentation.sweep import plot_cumulative, plot_rates, plot_spectral
 
-    run.table("spectrum.csv", spectrum_table(sp))
-    run.table("cumulative_mfp.csv", mfp_table(sp))
+    run.table("spectrum.csv", sp.columns(), tables)
+    written = run.table(MFP_TABLE, sp.mean_free_path_columns(), tables)
     for name, fig in (("spectral", plot_spectral(sp)), ("cumulative", plot_cumulative(sp)),
                       ("rates", plot_rates(sp))):
-        run.figure(name, fig)
+        run.figure(name, fig, figures)
     derived = dict(derived_lines(model))
     has_normal = bool(model.mechanisms.normal)
     run.record(
@@ -96,7 +99,8 @@ def spectrum_command(
         headers += [f"{b} [W/(m K)]" for b in sp.branches]
     else:
         rows = [r[:2] + r[3:] for r in rows]
-    common.print_table([*headers, "mfp50 [nm]", "mfp80 [nm]"], rows)
+    common.print_table([*headers, "mfp50 [nm]", "mfp80 [nm]"], rows, max_rows=20,
+                       source=f"{run.out}/{written[0]}")
     for t in range(T.size):
         typer.echo(f"half the heat at {T[t]:.4g} K is carried by phonons with mean free path "
                    f"above {_length(sp.mfp50[t])}, and 20 % by phonons with mean free path above "
@@ -106,37 +110,19 @@ def spectrum_command(
     typer.echo(f"wrote {run.out}/ ({', '.join(run.outputs)})")
 
 
+#: The table of κ_L carried by phonons with mean free path up to Λ.
+MFP_TABLE = "kappa_by_mean_free_path.csv"
+
+
 def mfp_table(result) -> list[tuple[str, object]]:
-    """Long-form columns ``T [K]``, ``mfp [nm]``, ``kappa_cumulative [W/(m K)]``.
-
-    Per temperature: mean free paths log-spaced between those where K(Λ) reaches 10⁻⁴ and
-    1 − 10⁻⁴ of κ_L, then the largest Λ of any phonon (where K equals κ_L).
-    """
-    import numpy as np
-
-    Ts = [np.full(g.size, t) for t, g in zip(result.temperature, result.mfp_nodes, strict=True)]
-    return [("T [K]", np.concatenate(Ts)), ("mfp [nm]", np.concatenate(result.mfp_nodes) * 1e9),
-            ("kappa_cumulative [W/(m K)]", np.concatenate(result.mfp_cumulative))]
+    """Columns of :data:`MFP_TABLE` (see :meth:`kappa.workflows.spectrum.Spectrum.
+    mean_free_path_columns`)."""
+    return result.mean_free_path_columns()
 
 
 def spectrum_table(result) -> list[tuple[str, object]]:
-    """Long-form columns of ``spectrum.csv`` (one row per temperature, branch and frequency)."""
-    import numpy as np
-
-    nT, nB, N = result.frequency.shape
-    Ts = np.broadcast_to(result.temperature[:, None, None], (nT, nB, N)).ravel()
-    labels = np.broadcast_to(np.array(result.branches, dtype=object)[None, :, None],
-                             (nT, nB, N)).ravel()
-    cols: list[tuple[str, object]] = [
-        ("T [K]", Ts), ("branch", labels),
-        ("frequency [THz]", result.frequency.ravel() / 1e12),
-        ("kappa_spectral [W/(m K THz)]", result.spectral.ravel() * 1e12),
-        ("kappa_cumulative [W/(m K)]", result.cumulative.ravel()),
-        ("mfp [nm]", result.mfp.ravel() * 1e9),
-    ]
-    for key, r in result.rates.items():
-        cols.append((f"rate_{key} [1/s]", r.ravel()))
-    return cols
+    """Columns of ``spectrum.csv`` (see :meth:`kappa.workflows.spectrum.Spectrum.columns`)."""
+    return result.columns()
 
 
 NORMAL_NOTE = (

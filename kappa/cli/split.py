@@ -30,9 +30,12 @@ kappa_e = L sigma T (Wiedemann-Franz), kappa_L = kappa - kappa_e (bipolar part i
 zT = S^2 sigma T / kappa, with 68 % Monte Carlo bands from relative measurement uncertainties,
 a bipolar check (A/T + B fit and extrapolation) and the Goldsmid-Sharp gap estimate.
 
-DATA files are CSV with 'name [unit]' headers: T, kappa (or the flash trio D, rho, cp),
-sigma or resistivity, S. Several files (e.g. flash and electrical data) are merged onto the
-temperatures of the thermal data by linear interpolation, never extrapolation.
+DATA files are tables with 'name [unit]' or 'name (unit)' headers: T, kappa (or the flash trio
+D, rho, cp), sigma or resistivity, S; comma-, semicolon- or tab-separated text (decimal commas
+detected) or .xlsx (BOOK.xlsx:SHEET for another sheet). A note '# rho = 3.08 g/cm^3' gives a
+value for the whole file. Several files (e.g. flash and electrical data) are merged onto the
+temperatures of the thermal data by linear interpolation; --extrapolate 5K allows a small
+extrapolation, reported per row.
 
 Uncertainties have a systematic part (one relative error per quantity shared by all
 temperatures: calibration, geometry) and a random part (independent per row); split.csv gives
@@ -51,6 +54,7 @@ Examples:
   kappa split data.csv --lorenz spb --scattering-exponent 2 --window 300K:450K
   kappa split --series samples.yaml -o series-split
   kappa split data.csv --lorenz 2.0e-8 --nan omit --draws 5000 --seed 7
+  kappa split flash.xlsx:HH-4 electrical.txt --density 3.08g/cm^3 --extrapolate 5K
 
 Limits: --draws 100 to 100,000; --seed >= 0; --scattering-exponent -0.9 to 4.
 """
@@ -196,9 +200,9 @@ def _flags(r: SplitResult, i: int) -> str:
 
 def split_command(
     data: Annotated[list[Path] | None, typer.Argument(
-        help="Measurement CSV file(s); columns T, kappa or D+rho+cp, sigma or resistivity, S.",
-        exists=True, dir_okay=False, readable=True, show_default=False,
-        metavar="DATA.csv...")] = None,
+        help="Measurement files (CSV/TXT with comma, semicolon or tab separators, or .xlsx; "
+        "BOOK.xlsx:SHEET for another sheet); columns T, kappa or D+rho+cp, sigma or "
+        "resistivity, S.", show_default=False, metavar="DATA...")] = None,
     series: Annotated[Path | None, typer.Option(
         "--series", help="A series file: several samples' measurement files and notes (the "
         "format of 'kappa fit --series'); writes one table and overlay figures for all.",
@@ -246,6 +250,29 @@ def split_command(
         "--config", help="A kappa config of the material: its volume per atom and branch "
         "velocities give the Cahill minimum (--number-density/--sound-velocity take priority).",
         exists=True, dir_okay=False, show_default=False)] = None,
+    separator: Annotated[str | None, typer.Option(
+        "--separator", help="Separator of text files: comma, semicolon or tab (default: "
+        "detected).", show_default=False)] = None,
+    decimal: Annotated[str | None, typer.Option(
+        "--decimal", help="Decimal mark of text files: point or comma (default: detected).",
+        show_default=False)] = None,
+    sheet: Annotated[str | None, typer.Option(
+        "--sheet", help="Sheet of .xlsx files named without one (default: the first sheet; "
+        "BOOK.xlsx:SHEET names one per file).", show_default=False)] = None,
+    extrapolate: Annotated[str | None, typer.Option(
+        "--extrapolate", help="Allow a quantity to be extrapolated linearly this far beyond "
+        "its measured range, e.g. 5K (each such row is reported; default: never).",
+        show_default=False)] = None,
+    density: Annotated[str | None, typer.Option(
+        "--density", help="Sample density for the flash trio, if no file gives it, e.g. "
+        "3.08g/cm^3 (bare number: g/cm^3).", show_default=False)] = None,
+    heat_capacity: Annotated[str | None, typer.Option(
+        "--heat-capacity", help="Specific heat for the flash trio, if no file gives it, e.g. "
+        "0.25J/(g K) (bare number: J/(g K)).", show_default=False)] = None,
+    format_: Annotated[str | None, typer.Option(
+        "--format", help="Figure files to write, comma-separated: png, svg, pdf (default "
+        "png,svg).", show_default=False)] = None,
+    style: Annotated[str, typer.Option("--style", help=common.STYLE_HELP)] = "paper",
 ) -> None:
     if fit_window is not None:
         if window is not None:
@@ -261,14 +288,18 @@ def split_command(
     if config is not None:
         number_density, sound_velocity = _cahill_from_config(config, number_density,
                                                              sound_velocity)
+    reading = {"separator": separator, "decimal": decimal, "sheet": sheet,
+               "extrapolate": extrapolate or 0.0,
+               "density": density, "heat_capacity": heat_capacity}
     if series is not None:
         from kappa.cli.split_series import run_series
 
         run_series(series, out, force, lorenz, scattering_exponent, uncertainty, window, nan,
-                   draws, seed, number_density, sound_velocity, config)
+                   draws, seed, number_density, sound_velocity, config, reading,
+                   format_=format_, style=style)
         return
     _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, window,
-         nan, draws, seed, number_density, sound_velocity, config)
+         nan, draws, seed, number_density, sound_velocity, config, reading, format_, style)
 
 
 @common.handles_errors(command="split")
@@ -339,14 +370,20 @@ def uncertainty_record(r: SplitResult) -> dict:
 
 @common.handles_errors(command="split")
 def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty, window_text,
-         nan, draws, seed, number_density, sound_velocity, config) -> None:
+         nan, draws, seed, number_density, sound_velocity, config, reading=None, format_=None,
+         style="paper") -> None:
     # 1. validate every option and the data before anything is written
     opts = parse_options(lorenz, scattering_exponent, uncertainty, window_text, nan, draws,
                          seed, number_density, sound_velocity)
-    inputs = [*data, *([config] if config is not None else [])]
-    out = Path(out) if out is not None else default_out(data[0], "split")
+    from kappa.io.labfiles import split_sheet
+
+    files = list(dict.fromkeys(split_sheet(p)[0] for p in data))  # book.xlsx:Sheet → book.xlsx
+    inputs = [*files, *([config] if config is not None else [])]
+    out = Path(out) if out is not None else default_out(files[0], "split")
     check_out(out, force=force, inputs=inputs)
-    m = read_measurements(data, nan=nan, composition=composition)
+    _, figures = common.parse_formats(format_, tables=("csv",))
+    common.use_style(style)
+    m = read_data(data, nan, composition, reading)
     check_seebeck(m, opts.lorenz, ", ".join(p.name for p in data))
     r = compute(m, opts)
     lines = summary_lines(r, m)
@@ -359,7 +396,8 @@ def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty
         options={"files": [str(p) for p in data], **opts.record(), "composition": composition,
                  "config": None if config is None else str(config),
                  "uncertainty": r.uncertainty, "uncertainty_random": r.uncertainty_random,
-                 "uncertainty_defaults": DEFAULT_UNCERTAINTY},
+                 "uncertainty_defaults": DEFAULT_UNCERTAINTY,
+                 "reading": {k: v for k, v in (reading or {}).items() if v}},
         uncertainty=uncertainty_record(r),
         measurements={"sources": m.sources, "heat_capacity": m.heat_capacity_source,
                       "dropped_rows": list(m.dropped), "notes": list(m.notes),
@@ -372,30 +410,43 @@ def _run(data, out, force, lorenz, scattering_exponent, composition, uncertainty
     # 2. write everything into a temporary folder, renamed to OUT only when complete
     with output_folder(out, force=force, inputs=inputs) as tmp:
         write_table(tmp / "split.csv", table_columns(r, m))
-        fig.savefig(tmp / "split.png", dpi=150)
-        fig.set_layout_engine("none")  # keep the layout just computed; saves a second pass
-        fig.savefig(tmp / "split.svg")
+        from kappa.presentation.style import save
+
+        save(fig, tmp / "split", figures)
         write_json(tmp / "run.json", record)
     # 3. terminal report
-    print_report(r, lines)
-    typer.echo(f"Wrote {out}/ (split.csv, split.png, split.svg, run.json)")
+    print_report(r, lines, source=f"{out}/split.csv")
+    typer.echo(f"wrote {out}/ (split.csv, {', '.join(f'split.{f}' for f in figures)}, run.json)")
 
 
-def print_report(r: SplitResult, lines: list[str]) -> None:
+def print_report(r: SplitResult, lines: list[str], source: str | None = None) -> None:
     headers = ["T [K]", "L [1e-8 W Ohm/K^2]", "kappa", "kappa_e", "kappa_L",
                "kappa_L 68%", "zT", "flags"]
     rows = []
-    n = r.temperature.size
-    shown = range(n) if n <= 12 else sorted({round(k * (n - 1) / 11) for k in range(12)})
-    for i in shown:
+    for i in range(r.temperature.size):  # print_table shows head and tail and says so
         t = r.temperature[i]
         rows.append([t, r.lorenz[i] * 1e8, r.kappa[i], r.kappa_e[i], r.kappa_L[i],
                      f"{r.kappa_L_low[i]:.3g}..{r.kappa_L_high[i]:.3g}",
                      np.nan if r.zT is None else r.zT[i], _flags(r, i)])
     typer.echo("conductivities in W/(m K)")
-    common.print_table(headers, rows)
+    common.print_table(headers, rows, source=source)
     for line in lines:
         typer.echo(line)
+
+
+def read_data(data, nan: str, composition: str | None, reading: dict | None) -> Measurements:
+    """Read the measurement files with the reading options (errors name the options)."""
+    from kappa.io.measurements import parse_constants
+
+    reading = dict(reading or {})
+    constants = parse_constants(reading.pop("density", None), reading.pop("heat_capacity", None))
+    try:
+        return read_measurements(data, nan=nan, composition=composition, constants=constants,
+                                 **reading)
+    except DataError as exc:
+        if exc.key in ("separator", "decimal", "extrapolate"):
+            raise exc.renamed(f"--{exc.key}") from None
+        raise
 
 
 def derived_record(r: SplitResult) -> dict:
@@ -403,12 +454,12 @@ def derived_record(r: SplitResult) -> dict:
     b = r.bipolar
     if b is not None:
         d["bipolar"] = {
-            "fit_window_K": list(b.fit_window), "window_auto": b.window_auto,
-            "A_W_per_m": b.coefficients[0], "B_W_per_mK": b.coefficients[1],
-            "onset_K": b.onset,
-            "seebeck_max_V_per_K": b.seebeck_max,
-            "temperature_at_seebeck_max_K": b.temperature_at_seebeck_max,
-            "goldsmid_sharp_gap_eV": None if b.gap is None else b.gap / 1.602176634e-19,
+            "fit_window [K]": list(b.fit_window), "window_auto": b.window_auto,
+            "A [W/m]": b.coefficients[0], "B [W/(m K)]": b.coefficients[1],
+            "onset [K]": b.onset,
+            "seebeck_max [V/K]": b.seebeck_max,
+            "temperature_at_seebeck_max [K]": b.temperature_at_seebeck_max,
+            "goldsmid_sharp_gap [eV]": None if b.gap is None else b.gap / 1.602176634e-19,
             "gap_note": b.gap_note,
         }
     return d

@@ -136,10 +136,10 @@ class Options:
 
     def record(self) -> dict:
         return {"lorenz": self.lorenz, "scattering_exponent": self.scattering_exponent,
-                "fit_window_K": list(self.window) if self.window else "automatic",
+                "fit_window [K]": list(self.window) if self.window else "automatic",
                 "nan": self.nan, "draws": self.draws, "seed": self.seed,
-                "number_density_per_m3": self.number_density,
-                "sound_velocities_m_per_s": self.velocities}
+                "number_density [1/m^3]": self.number_density,
+                "sound_velocities [m/s]": self.velocities}
 
 
 def parse_options(lorenz, scattering_exponent, uncertainty, window_text, nan, draws, seed,

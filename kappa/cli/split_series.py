@@ -25,12 +25,12 @@ from kappa.cli.split import (
     compute,
     derived_record,
     parse_options,
+    read_data,
     summary_lines,
     table_columns,
     uncertainty_record,
 )
 from kappa.errors import DataError, KappaError, KappaWarning, warn
-from kappa.io.measurements import read_measurements
 from kappa.io.outdir import check_out, default_out, output_folder
 from kappa.io.records import dump_yaml, run_record, write_json
 from kappa.io.series import Note, read_split_series
@@ -159,10 +159,15 @@ def _fit_series_file(sf, out: Path) -> str:
 
 @common.handles_errors(command="split")
 def run_series(series, out, force, lorenz, scattering_exponent, uncertainty, window_text, nan,
-               draws, seed, number_density, sound_velocity, config) -> None:
-    """The command ``kappa split --series`` (see the module docstring)."""
+               draws, seed, number_density, sound_velocity, config, reading=None,
+               format_=None, style="paper") -> None:
+    """The command ``kappa split --series`` (see the module docstring); ``reading`` holds the
+    lab-file options of the command (separator, decimal mark, sheet, extrapolation, constants),
+    applied to every sample's files."""
     opts = parse_options(lorenz, scattering_exponent, uncertainty, window_text, nan, draws,
                          seed, number_density, sound_velocity)
+    _, formats = common.parse_formats(format_, tables=("csv",))
+    common.use_style(style)
     sf, samples = read_split_series(series)
     files = [f for s in samples for f in s.files]
     inputs = [Path(series), *files, *([config] if config is not None else [])]
@@ -171,8 +176,8 @@ def run_series(series, out, force, lorenz, scattering_exponent, uncertainty, win
     measured = []
     for i, s in enumerate(samples):
         try:
-            m = _sample_warnings(s.name, read_measurements, list(s.files), nan=opts.nan,
-                                 composition=s.composition)
+            m = _sample_warnings(s.name, read_data, list(s.files), opts.nan, s.composition,
+                                 reading)
         except KappaError as exc:
             if exc.key == "--composition":
                 raise DataError(f"series.samples.{i}.composition", exc.value,
@@ -189,14 +194,15 @@ def run_series(series, out, force, lorenz, scattering_exponent, uncertainty, win
     pairs = [(s.name, r) for s, r in zip(samples, results, strict=True)]
     fig = plot_series(pairs, title=Path(series).name)
     sample_figs = [plot_split(r, title=s.name) for s, r in zip(samples, results, strict=True)]
-    outputs = ["series.csv", "samples.csv", "series.png", "series.svg", "series.yaml",
-               "run.json", "samples/NAME/split.csv", "samples/NAME/split.png",
-               "samples/NAME/split.svg"]
+    outputs = ["series.csv", "samples.csv", *(f"series.{f}" for f in formats), "series.yaml",
+               "run.json", "samples/NAME/split.csv",
+               *(f"samples/NAME/split.{f}" for f in formats)]
     record = run_record(
         "split",
         inputs=inputs,
         options={"series": str(series), **opts.record(),
-                 "config": None if config is None else str(config)},
+                 "config": None if config is None else str(config),
+                 "reading": {k: v for k, v in (reading or {}).items() if v}},
         samples={s.name: {
             "files": [str(f) for f in s.files], "composition": s.composition,
             "notes": {k: {"text": n.text, "value": n.value, "unit": n.unit}
@@ -215,13 +221,13 @@ def run_series(series, out, force, lorenz, scattering_exponent, uncertainty, win
     with output_folder(out, force=force, inputs=inputs) as tmp:
         write_table(tmp / "series.csv", series_columns(samples, results, measured))
         write_table(tmp / "samples.csv", _samples_table(samples, results, tmp))
-        save(fig, tmp / "series")
+        save(fig, tmp / "series", formats)
         (tmp / "series.yaml").write_text(_fit_series_file(sf, out), encoding="utf-8")
         for s, r, m, f in zip(samples, results, measured, sample_figs, strict=True):
             folder = tmp / "samples" / s.name
             folder.mkdir(parents=True, exist_ok=True)
             write_table(folder / "split.csv", table_columns(r, m))
-            save(f, folder / "split")
+            save(f, folder / "split", formats)
         write_json(tmp / "run.json", record)
     headers = ["sample", "rows", "T [K]", "kappa_L first", "kappa_L last", "sys %", "rand %",
                "notes"]
@@ -237,6 +243,7 @@ def run_series(series, out, force, lorenz, scattering_exponent, uncertainty, win
                      ", ".join(f"{k}={n.text}" for k, n in s.notes.items())])
     typer.echo("kappa_L in W/(m K) with its 68 % interval; sys/rand: median relative half "
                "widths of the systematic and random parts")
-    common.print_table(headers, rows, max_rows=100)
-    typer.echo(f"Wrote {out}/ (series.csv, samples.csv, series.png, series.svg, series.yaml, "
-               "run.json, samples/NAME/split.csv|png|svg)")
+    common.print_table(headers, rows, max_rows=100, source=f"{out}/samples.csv")
+    typer.echo(f"wrote {out}/ (series.csv, samples.csv, "
+               f"{', '.join(f'series.{f}' for f in formats)}, series.yaml, run.json, "
+               f"samples/NAME/split.csv|{'|'.join(formats)})")

@@ -77,10 +77,10 @@ def split_step(run: StudyRun) -> None:
                          "scattering_exponent": opts.scattering_exponent,
                          "composition": s.composition, "uncertainty": r.uncertainty,
                          "uncertainty_defaults": DEFAULT_UNCERTAINTY,
-                         "fit_window_K": list(opts.window) if opts.window else "automatic",
+                         "fit_window [K]": list(opts.window) if opts.window else "automatic",
                          "nan": opts.nan, "draws": opts.draws, "seed": opts.seed,
-                         "number_density_per_m3": density,
-                         "sound_velocities_m_per_s": velocities,
+                         "number_density [1/m^3]": density,
+                         "sound_velocities [m/s]": velocities,
                          "config": str(study.config_path)},
                 measurements={"sources": m.sources, "heat_capacity": m.heat_capacity_source,
                               "dropped_rows": list(m.dropped), "notes": list(m.notes),
@@ -211,15 +211,7 @@ def scenario_step(run: StudyRun) -> None:
         for s, _, w in run.scenarios:
             a = w.at(split.temperature)
             run.zT[s.name] = project_zT(split, split.temperature, a.ratio, a.ratio_draws)
-    on_grid = [w.at(grid) for _, _, w in run.scenarios]
-    curves: list[tuple[str, Any]] = [("T [K]", grid), ("kappa_L(fitted) [W/(m K)]",
-                                                       on_grid[0].reference)]
-    for (s, _, _), w in zip(run.scenarios, on_grid, strict=True):
-        label = _label(s.name)
-        curves.append((f"kappa_L({label}) [W/(m K)]", w.kappa_L))
-        if w.low is not None:
-            curves += [(f"kappa_L_low({label}) [W/(m K)]", w.low),
-                       (f"kappa_L_high({label}) [W/(m K)]", w.high)]
+    curves = _curve_columns(run, [w.at(grid) for _, _, w in run.scenarios], grid)
     figs = {"scenarios": plot_scenarios(run), "changes": plot_changes(run)}
     if run.zT:
         figs["zT"] = plot_zT(run)
@@ -254,16 +246,28 @@ def scenario_step(run: StudyRun) -> None:
 
 
 def _save(fig, stem: Path) -> None:
-    """``stem.png`` and ``stem.svg``; the layout computed for the PNG is kept for the SVG."""
-    fig.savefig(f"{stem}.png", dpi=150)
-    fig.set_layout_engine("none")
-    fig.savefig(f"{stem}.svg")
+    """``stem.png`` and ``stem.svg`` in the figure style's one way of saving."""
+    from kappa.presentation.style import save
+
+    save(fig, stem)
 
 
-def _label(name: str) -> str:
-    """A scenario name inside a CSV header (no brackets, commas or quotes)."""
-    return (name.replace("[", "(").replace("]", ")").replace(",", ";")
-            .replace('"', "'"))
+def _curve_columns(run: StudyRun, on_grid, grid) -> list[tuple[str, Any]]:
+    """``kappa_L_curves.csv`` in long form: one row per scenario and temperature, with the
+    fitted sample's κ_L beside each scenario's (``scenario`` is the scenario's name)."""
+    names = [s.name for s, _, _ in run.scenarios]
+    nT = grid.size
+    nan = np.full(nT, np.nan)
+    cols: list[tuple[str, Any]] = [
+        ("scenario", [n for n in names for _ in range(nT)]),
+        ("T [K]", np.tile(grid, len(names))),
+        ("kappa_L_fitted [W/(m K)]", np.concatenate([w.reference for w in on_grid])),
+        ("kappa_L [W/(m K)]", np.concatenate([w.kappa_L for w in on_grid])),
+        ("kappa_L_low [W/(m K)]", np.concatenate([nan if w.low is None else w.low
+                                                  for w in on_grid])),
+        ("kappa_L_high [W/(m K)]", np.concatenate([nan if w.high is None else w.high
+                                                   for w in on_grid]))]
+    return cols
 
 
 def _file_name(name: str) -> str:
@@ -293,14 +297,17 @@ def _answer_columns(rows) -> list[tuple[str, Any]]:
 
 
 def _zT_columns(run: StudyRun) -> list[tuple[str, Any]]:
+    """``zT_projected.csv`` in long form: one row per scenario and measured temperature."""
     split = run.splits[run.study.projection.sample]
-    cols: list[tuple[str, Any]] = [("T [K]", split.temperature), ("zT_measured [1]", split.zT)]
-    for name, z in run.zT.items():
-        label = _label(name)
-        cols.append((f"zT({label}) [1]", z.projected))
-        if z.low is not None:
-            cols += [(f"zT_low({label}) [1]", z.low), (f"zT_high({label}) [1]", z.high)]
-    return cols
+    T = split.temperature
+    nan = np.full(T.size, np.nan)
+    zs = list(run.zT.items())
+    return [("scenario", [name for name, _ in zs for _ in range(T.size)]),
+            ("T [K]", np.tile(T, len(zs))),
+            ("zT_measured [1]", np.tile(split.zT, len(zs))),
+            ("zT_projected [1]", np.concatenate([z.projected for _, z in zs])),
+            ("zT_low [1]", np.concatenate([nan if z.low is None else z.low for _, z in zs])),
+            ("zT_high [1]", np.concatenate([nan if z.high is None else z.high for _, z in zs]))]
 
 
 def report_step(run: StudyRun) -> None:

@@ -11,7 +11,7 @@ import typer
 
 from . import common
 
-HELP = f"""Sweep one or more config keys over a grid and compute κ_L at every point.
+HELP = """Sweep one or more config keys over a grid and compute κ_L at every point.
 
 Each --vary is KEY=START:STOP:N (N evenly spaced values, both ends included), KEY=START:STOP:N:log
 (geometric spacing) or KEY=V1,V2,... (a list). Values take units (10nm, 2km/s); a bare number is
@@ -44,8 +44,6 @@ regions (maps). --draws parameter sets (default 200) per grid point:
       --vary scattering.boundary.grain_size=10nm:10um:31:log --at 300K -o grains-what-if
 
 Sweeps above 10^8 points need --yes.
-
-{common.CAUTION}
 """
 
 
@@ -69,15 +67,19 @@ def sweep_command(
     draws: Annotated[int, typer.Option("--draws", help="Parameter sets drawn for --fit "
                                        "(50 to 100,000).")] = 200,
     seed: Annotated[int, typer.Option("--seed", min=0, help="Seed of the --fit draws.")] = 0,
+    format_: Annotated[str | None, typer.Option("--format", help=common.FORMAT_HELP.replace(
+        "csv or parquet", "csv or parquet (pyarrow)"), show_default=False)] = None,
+    style: Annotated[str, typer.Option("--style", help=common.STYLE_HELP)] = "paper",
 ) -> None:
     from kappa.cli.run import Run
     from kappa.errors import ConfigError
     from kappa.io.config import derived_lines, load_config
     from kappa.io.grids import parse_temperatures, parse_vary
     from kappa.io.records import model_summary
-    from kappa.io.tables import axis_columns
     from kappa.workflows.sweep import MAX_POINTS, check_axes, grid_points, sweep
 
+    tables, figures = common.parse_formats(format_, tables=("csv", "parquet"))
+    common.use_style(style)
     cfg = load_config(config, set_ or [])
     model = cfg.model
     if not vary:
@@ -122,8 +124,9 @@ def sweep_command(
 
     from kappa.presentation.sweep import plot_sweep
 
-    fig = plot_sweep(result)
-    names = axis_columns(axes)
+    fitted = _fitted(fit if fit is not None else config.parent / "fit.json", axes)
+    fig = plot_sweep(result, fitted=fitted)
+    names = result.column_names
     answers = None
     if cov is not None:
         from kappa.presentation.whatif import add_sweep_intervals
@@ -158,22 +161,19 @@ def sweep_command(
         from kappa.cli.whatif import record as what_if_record
 
         run.record(what_if=what_if_record(answers, fit, seed))
-    long = result.long_form()
-    columns = [(n, a.parameter.shown(long[a.key])) for a, n in zip(axes, names, strict=True)]
-    columns += [("T [K]", long["temperature"]), ("kappa_L [W/(m K)]", long["kappa_L"]),
-                ("kappa_L_ratio [1]", long["kappa_L_ratio"])]
+    columns = result.columns()
     if answers is not None:
         columns += [("kappa_L_low [W/(m K)]", answers.low.ravel()),
                     ("kappa_L_high [W/(m K)]", answers.high.ravel()),
                     ("kappa_L_ratio_low [1]", answers.ratio_low.ravel()),
                     ("kappa_L_ratio_high [1]", answers.ratio_high.ravel()),
                     ("pinned [1]", answers.pinned.ravel().astype(int))]
-    run.table("sweep.csv", columns)
-    run.figure("sweep", fig)
+    written = run.table("sweep.csv", columns, tables)
+    run.figure("sweep", fig, figures)
     run.finish(report=False)
     for key, text in derived.items():
         common.echo_err(f"derived: {key} = {text}")
-    _summary(result, names, elapsed)
+    _summary(result, names, elapsed, f"{run.out}/{written[0]}")
     if answers is not None:
         _answers(result, answers, names)
     typer.echo(f"wrote {run.out}/ ({', '.join(run.outputs)})")
@@ -203,7 +203,34 @@ def _answers(result, w, names: list[str]) -> None:
     print_flags(w, labels, most=6)
 
 
-def _summary(result, names: list[str], elapsed: float) -> None:
+def _fitted(path: Path, axes) -> dict | None:
+    """Fitted values and 68 % intervals [SI] of swept keys, from a fit record (``--fit``, or
+    a fit.json beside a fitted.yaml written by 'kappa fit'); None without one."""
+    import math
+
+    from kappa.errors import KappaError
+    from kappa.io.fitfiles import read_fit_record
+
+    if not path.is_file():
+        return None
+    try:
+        record = read_fit_record(path)
+    except KappaError:
+        return None
+    out = {}
+    for i, key in enumerate(record.keys):
+        if key not in {a.key for a in axes}:
+            continue
+        v, sd = record.values[i], math.sqrt(max(float(record.matrix[i, i]), 0.0))
+        if not math.isfinite(sd):
+            continue
+        out[key] = ((v, v * math.exp(-sd), v * math.exp(sd)) if record.spaces[i] == "log"
+                    else (v, v - sd, v + sd))
+    return out or None
+
+
+def _summary(result, names: list[str], elapsed: float, source: str) -> None:
+    from kappa.presentation.style import number_text
     from kappa.presentation.sweep import pick
 
     k, T, axes = result.kappa_L, result.temperature, result.axes
@@ -212,29 +239,36 @@ def _summary(result, names: list[str], elapsed: float) -> None:
     typer.echo(f"{n_sets} parameter sets x {T.size} temperatures = {k.size} points in "
                f"{elapsed:.2f} s{rate}")
     rows = []
-    for t in pick(T.size, 12):
+    for t in range(T.size):
         kt = k[..., t]
         lo, hi = np.unravel_index(np.argmin(kt), kt.shape), np.unravel_index(np.argmax(kt), kt.shape)
-        where = [", ".join(f"{n.split(' [')[0]}={a.shown[i]:.4g}"
+        where = [", ".join(f"{n.split(' [')[0]} {number_text(float(a.shown[i]), 4)}"
                            + ("" if a.unit in ("1", "") else f" {a.unit}")
                            for n, a, i in zip(names, axes, ix, strict=True)) for ix in (lo, hi)]
         rows.append([T[t], kt[lo], where[0], kt[hi], where[1], result.reference[t]])
     common.print_table(["T [K]", "min kappa_L", "at", "max kappa_L", "at", "config kappa_L"],
-                       rows)
+                       rows, source=source)
     if len(axes) == 1:
-        ts = pick(T.size, 5)
-        headers = [names[0]] + [f"kappa_L({T[t]:.4g} K)" for t in ts]
-        table = [[axes[0].shown[i]] + [k[i, t] for t in ts] for i in range(axes[0].values.size)]
+        headers = [names[0]] + [f"kappa_L at {T[t]:.6g} K" for t in range(T.size)]
+        table = [[axes[0].shown[i]] + [k[i, t] for t in range(T.size)]
+                 for i in range(axes[0].values.size)]
         typer.echo("")
-        common.print_table(headers, table)
+        common.print_table(headers[:9], [r[:9] for r in table], source=source,
+                           hidden_columns=headers[9:])
     elif len(axes) == 2:
         rows_i, cols_i = pick(axes[0].values.size, 10), pick(axes[1].values.size, 6)
         for t in pick(T.size, 3):
-            typer.echo(f"\nkappa_L [W/(m K)] at T = {T[t]:.4g} K (rows: {names[0]}, "
-                       f"columns: {names[1]}; thinned)")
+            typer.echo(f"\nkappa_L [W/(m K)] at T = {T[t]:.6g} K (rows: {names[0]}, "
+                       f"columns: {names[1]})")
             headers = [names[0].split(" [")[0]] + [f"{axes[1].shown[j]:.4g}" for j in cols_i]
             table = [[axes[0].shown[i]] + [k[i, j, t] for j in cols_i] for i in rows_i]
             common.print_table(headers, table)
+            if len(rows_i) < axes[0].values.size or len(cols_i) < axes[1].values.size:
+                typer.echo(f"{len(rows_i)} of {axes[0].values.size} rows and {len(cols_i)} of "
+                           f"{axes[1].values.size} columns of the grid shown, evenly spread; "
+                           f"every point in {source}")
+        if T.size > 3:
+            typer.echo(f"{min(3, T.size)} of {T.size} temperatures shown; all in {source}")
 
 
 def register(app: typer.Typer) -> None:

@@ -42,9 +42,8 @@ _X_MAX = 60.0  # the integrand x^3 e^x/(e^x-1)^2 is below 1e-20 beyond
 
 @functools.lru_cache(maxsize=1)
 def _legendre(n: int = 96) -> tuple[np.ndarray, np.ndarray]:
-    from scipy.special import roots_legendre
-
-    return roots_legendre(n)
+    """Gauss-Legendre nodes and weights on [-1, 1] (numpy's; scipy is not loaded for it)."""
+    return np.polynomial.legendre.leggauss(n)
 
 
 def cahill_minimum(temperature: ArrayLike, number_density: float,

@@ -83,21 +83,25 @@ def rule(x_top: float) -> tuple[np.ndarray, np.ndarray]:
     x_top = min(float(x_top), X_CUT)
     x_m = min(x_top, X_SWITCH)
     lo = x_m * EPS_LOW
-    xs, qs = [], []
     edges = np.linspace(np.log(lo), np.log(x_m), LOG_PANELS + 1)
-    for a, b in zip(edges[:-1], edges[1:], strict=True):
-        u, qu = _panel(a, b, LOG_NODES)
-        x = np.exp(u)
-        xs.append(x)
-        qs.append(qu * x)  # dx = x du
+    u, qu = _panels(edges, LOG_NODES)  # all panels at once (same arithmetic as _panel)
+    x = np.exp(u)
+    xs, qs = [x], [qu * x]  # dx = x du
     if x_top > x_m:
         n_lin = int(np.ceil((x_top - x_m) / LIN_WIDTH - 1e-12))
         lin = np.linspace(x_m, x_top, n_lin + 1)
-        for a, b in zip(lin[:-1], lin[1:], strict=True):
-            x, q = _panel(a, b, LIN_NODES)
-            xs.append(x)
-            qs.append(q)
+        x, q = _panels(lin, LIN_NODES)
+        xs.append(x)
+        qs.append(q)
     return np.concatenate(xs), np.concatenate(qs)
+
+
+def _panels(edges: np.ndarray, n: int) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`_panel` for every pair of consecutive ``edges``, flattened in order."""
+    t, q = _GL[n]
+    a, b = edges[:-1, None], edges[1:, None]
+    half = 0.5 * (b - a)
+    return (a + half * (t + 1.0)).ravel(), (half * q).ravel()
 
 
 def lower_end(x_top: float) -> float:
@@ -164,9 +168,50 @@ def rules(x_top: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.nda
     wq = np.zeros((n, MAX_NODES))
     count = np.zeros(n, dtype=np.int64)
     x_s = np.array([lower_end(t) for t in x_top])
-    for i, top in enumerate(x_top):
-        x, w = _weighted_rule(float(min(top, X_CUT)))
+    tops = np.minimum(x_top, X_CUT)
+    missing = [t for t in np.unique(tops) if float(t) not in _CACHE]
+    if len(missing) > 8:  # many new upper limits (spectra): build them together
+        _build_many(np.array(missing, dtype=float))
+    for i, top in enumerate(tops):
+        x, w = _weighted_rule(float(top))
         xx[i, : x.size] = x
         wq[i, : x.size] = w
         count[i] = x.size
     return xx, wq, count, x_s
+
+
+def _build_many(tops: np.ndarray) -> None:
+    """:func:`rule` and the phonon weight for many upper limits at once, into the memo.
+
+    The arithmetic is that of :func:`rule`, element by element (the same nodes to the last
+    bit); tops are grouped by their number of linear panels.
+    """
+    if len(_CACHE) + tops.size >= _CACHE_SIZE:
+        _CACHE.clear()
+    x_m = np.minimum(tops, X_SWITCH)
+    lo = x_m * EPS_LOW
+    edges = np.linspace(np.log(lo), np.log(x_m), LOG_PANELS + 1)  # (P + 1, n)
+    t, q = _GL[LOG_NODES]
+    a, b = edges[:-1][:, :, None], edges[1:][:, :, None]  # (P, n, 1)
+    half = 0.5 * (b - a)
+    u = (a + half * (t + 1.0)).transpose(1, 0, 2).reshape(tops.size, -1)
+    qu = (half * q).transpose(1, 0, 2).reshape(tops.size, -1)
+    x_log = np.exp(u)
+    q_log = qu * x_log
+    n_lin = np.where(tops > x_m, np.ceil((tops - x_m) / LIN_WIDTH - 1e-12), 0).astype(int)
+    for n in np.unique(n_lin):
+        sel = np.flatnonzero(n_lin == n)
+        if n == 0:
+            xs, qs = x_log[sel], q_log[sel]
+        else:
+            lin = np.linspace(x_m[sel], tops[sel], n + 1)  # (n + 1, k)
+            tl, ql = _GL[LIN_NODES]
+            la, lb = lin[:-1][:, :, None], lin[1:][:, :, None]
+            lhalf = 0.5 * (lb - la)
+            xl = (la + lhalf * (tl + 1.0)).transpose(1, 0, 2).reshape(sel.size, -1)
+            qlin = (lhalf * ql).transpose(1, 0, 2).reshape(sel.size, -1)
+            xs = np.concatenate([x_log[sel], xl], axis=1)
+            qs = np.concatenate([q_log[sel], qlin], axis=1)
+        w = qs * phonon_weight(xs)
+        for k, i in enumerate(sel):
+            _CACHE[float(tops[i])] = (xs[k], w[k])

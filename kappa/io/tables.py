@@ -11,7 +11,7 @@ import csv
 import io
 import math
 import re
-from collections.abc import Iterable, Iterator, Sequence
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -43,10 +43,16 @@ class Column:
 
 @dataclass(frozen=True)
 class Table:
-    """A table read from a CSV file (values as written, units from the headers)."""
+    """A table read from a file (values as written, units from the headers).
+
+    ``rows`` holds the line (or spreadsheet row) number of each data row, ``comments`` the
+    ``#`` comment lines as ``(line, text)``.
+    """
 
     source: str
     columns: dict[str, Column]
+    rows: np.ndarray | None = None
+    comments: tuple[tuple[int, str], ...] = ()
 
     def __contains__(self, name: str) -> bool:
         return name in self.columns
@@ -76,30 +82,45 @@ class Table:
         return col.values * scale + offset
 
 
+def _split_parenthesis(text: str) -> tuple[str, str] | None:
+    """``"kappa (W/(m K))"`` → ``("kappa", "W/(m K)")``: the last balanced group at the end."""
+    if not text.endswith(")"):
+        return None
+    depth = 0
+    for i in range(len(text) - 1, -1, -1):
+        depth += {")": 1, "(": -1}.get(text[i], 0)
+        if depth == 0:
+            name = text[:i].strip()
+            return (name, text[i + 1:-1].strip()) if name else None
+    return None
+
+
 def parse_header(text: str, source: str) -> tuple[str, str]:
-    """Split ``"sigma [S/cm]"`` into ``("sigma", "S/cm")``; a header without a unit is an error."""
+    """Split ``"sigma [S/cm]"`` or ``"Temperature (°C)"`` into (name, unit).
+
+    A header without a unit is an error (``[1]`` marks a plain number).
+    """
     match = _HEADER.match(text)
-    if not match:
-        raise DataError(f"{source}, header", text,
-                        "every column header must be 'name [unit]', e.g. 'T [K]', "
-                        "'sigma [S/cm]', 'S [uV/K]', 'zT [1]'")
-    return match.group(1), match.group(2)
+    if match:
+        return match.group(1), match.group(2)
+    found = _split_parenthesis(text.strip())
+    if found:
+        return found
+    raise DataError(f"{source}, header", text,
+                    "every column header must be 'name [unit]' or 'name (unit)', e.g. 'T [K]', "
+                    "'Temperature (°C)', 'sigma [S/cm]', 'S [uV/K]', 'zT [1]'")
 
 
-_BLOCK = 65_536  # rows parsed into one numpy block while reading
+def read_table(path: str | Path, *, separator: str | None = None, decimal: str | None = None,
+               sheet: str | None = None) -> Table:
+    """Read a table with one header row of ``name [unit]`` (or ``name (unit)``) columns.
 
-
-def _data_lines(fh) -> Iterator[str]:
-    for line in fh:
-        if line.strip() and not line.lstrip().startswith("#"):
-            yield line
-
-
-def read_table(path: str | Path) -> Table:
-    """Read a comma-separated table with one header row of ``name [unit]`` columns.
-
-    Lines starting with ``#`` are comments. Blank cells become NaN. The file is read row by
-    row into numpy blocks, so memory stays close to that of the final arrays.
+    Text files may be comma-, semicolon- or tab-separated, with a decimal point or (with
+    semicolons or tabs) a decimal comma, in UTF-8 or Latin-1 — all detected unless given
+    (``separator``, ``decimal``: the characters). ``.xlsx`` spreadsheets are read too
+    (``book.xlsx:Sheet2`` or ``sheet=`` for a sheet other than the first); see
+    :mod:`kappa.io.labfiles`. Lines starting with ``#`` are comments (kept in
+    :attr:`Table.comments`). Blank cells become NaN.
 
     Raises
     ------
@@ -107,69 +128,50 @@ def read_table(path: str | Path) -> Table:
         Unreadable file, a header without a unit, a duplicated column, a non-numeric cell,
         a row with the wrong number of cells, or no data rows.
     """
-    path = Path(path)
-    source = path.name
-    try:
-        with open(path, encoding="utf-8-sig", newline="") as fh:
-            return _read_rows(csv.reader(_data_lines(fh)), source)
-    except OSError as exc:
-        raise DataError(str(path), allowed=f"cannot read the file ({exc.strerror})") from None
-    except UnicodeDecodeError:
-        raise DataError(str(path), allowed="not a text (UTF-8) CSV file") from None
-    except csv.Error as exc:
-        raise DataError(str(path), allowed=f"not a readable CSV file ({exc})") from None
+    from kappa.io.labfiles import read_raw
+
+    raw = read_raw(path, separator=separator, decimal=decimal, sheet=sheet)
+    return _build(raw)
 
 
-def _read_rows(reader, source: str) -> Table:
-    header = next(reader, None)
-    if header is None:
-        raise DataError(source, allowed="the file is empty; needs a header row and data rows")
-    headers = [h.strip() for h in header]
+def _build(raw) -> Table:
+    source = raw.source
     names: list[tuple[str, str]] = []
-    for h in headers:
+    for h in raw.header:
         name, unit = parse_header(h, source)
         if any(name == n for n, _ in names):
             raise DataError(f"{source}, header", h, "each column name may appear only once")
         names.append((name, unit))
-    ncol = len(headers)
-    blocks: list[np.ndarray] = []
-    blanks: list[np.ndarray] = []
-    data = np.full((_BLOCK, ncol), np.nan)
-    blank = np.zeros(data.shape, dtype=bool)
-    k = 0
-    for i, row in enumerate(reader):
-        if len(row) != ncol:
-            raise DataError(f"{source}, row {i + 2}", ",".join(row),
-                            f"has {len(row)} cells; the header has {ncol}")
-        for j, cell in enumerate(row):
-            cell = cell.strip()
-            if cell == "":
-                blank[k, j] = True
-                continue
-            try:
-                data[k, j] = float(cell)
-            except ValueError:
-                raise DataError(f"{source}, row {i + 2}, column '{headers[j]}'", cell,
-                                "must be a number (or blank)") from None
-        k += 1
-        if k == _BLOCK:
-            blocks.append(data)
-            blanks.append(blank)
-            data = np.full((_BLOCK, ncol), np.nan)
-            blank = np.zeros(data.shape, dtype=bool)
-            k = 0
-    blocks.append(data[:k])
-    blanks.append(blank[:k])
-    data = np.concatenate(blocks) if len(blocks) > 1 else blocks[0]
-    blank = np.concatenate(blanks) if len(blanks) > 1 else blanks[0]
-    if data.shape[0] == 0:
+    ncol = len(names)
+    nrow = len(raw.rows)
+    if nrow == 0:
         raise DataError(source, allowed="has a header but no data rows")
+    data = np.full((nrow, ncol), np.nan)
+    blank = np.zeros((nrow, ncol), dtype=bool)
+    decimal = raw.decimal
+    from kappa.io.labfiles import parse_number
+
+    for i, row in enumerate(raw.rows):
+        for j, cell in enumerate(row):
+            if cell is None or cell == "":
+                blank[i, j] = True
+            elif isinstance(cell, str):
+                try:
+                    data[i, j] = parse_number(cell, decimal)
+                except ValueError:
+                    mark = "a decimal comma" if decimal == "," else "a decimal point"
+                    raise DataError(f"{source}, line {raw.lines[i]}, column "
+                                    f"'{raw.header[j]}'", cell,
+                                    f"must be a number with {mark} (or blank)") from None
+            else:
+                data[i, j] = float(cell)
     columns = {
-        n: Column(name=n, unit=u, values=data[:, j].copy(), header=headers[j],
+        n: Column(name=n, unit=u, values=data[:, j].copy(), header=raw.header[j],
                   blank=blank[:, j].copy())
         for j, (n, u) in enumerate(names)
     }
-    return Table(source=source, columns=columns)
+    return Table(source=source, columns=columns, rows=np.asarray(raw.lines),
+                 comments=tuple(raw.comments))
 
 
 def _fmt(value: float) -> str:
@@ -212,10 +214,77 @@ def _write_numeric(fh, headers: list[str], cols: list, n: int, block: int = 200_
         fh.write(text + "\n")
 
 
+def round_significant(values: np.ndarray, digits: int = 8) -> np.ndarray:
+    """``values`` rounded to ``digits`` significant figures (so that they print short)."""
+    x = np.asarray(values, dtype=float)
+    with np.errstate(all="ignore"):
+        a = np.abs(x)
+        e = np.floor(np.log10(np.where((a > 0) & np.isfinite(a), a, 1.0)))
+        scale = 10.0 ** (digits - 1 - e)
+        r = np.round(x * scale) / scale
+    return np.where(np.isfinite(r), r, x)
+
+
+#: Tables with at least this many rows are written by pyarrow when it is installed.
+ARROW_ROWS = 20_000
+
+
+def arrow_array(values: np.ndarray, round_floats: bool = False):
+    """A numeric numpy array as a pyarrow array, NaN as null (empty in CSV).
+
+    Built from the buffers: ``pyarrow.array`` would import pandas to inspect a numpy array.
+    """
+    import pyarrow as pa
+
+    a = np.asarray(values)
+    if a.dtype.kind == "b":
+        a = a.astype(np.int8)
+    if a.dtype.kind == "f":
+        a = round_significant(a) if round_floats else a.astype(np.float64)
+    a = np.ascontiguousarray(a)
+    types = {"f": pa.float64(), "i": pa.from_numpy_dtype(a.dtype),
+             "u": pa.from_numpy_dtype(a.dtype)}
+    if a.dtype.kind not in types:
+        return pa.array(a.tolist())
+    validity = None
+    if a.dtype.kind == "f":
+        nan = np.isnan(a)
+        if nan.any():
+            validity = pa.py_buffer(np.packbits(~nan, bitorder="little"))
+    return pa.Array.from_buffers(types[a.dtype.kind], a.size, [validity, pa.py_buffer(a)])
+
+
+def _arrow_table(headers: list[str], cols: list):
+    import pyarrow as pa
+
+    return pa.Table.from_arrays([arrow_array(c, round_floats=True) for c in cols],
+                                names=headers)
+
+
+def _write_arrow(fh, headers: list[str], cols: list) -> bool:
+    """Numeric columns through pyarrow's CSV writer (C++, threaded); False without pyarrow."""
+    try:
+        import pyarrow as pa
+        import pyarrow.csv as pacsv
+    except ImportError:
+        return False
+    buf = pa.BufferOutputStream()
+    pacsv.write_csv(_arrow_table(headers, cols), buf,
+                    pacsv.WriteOptions(include_header=False, quoting_style="none"))
+    fh.write(",".join(headers) + "\n")
+    fh.flush()
+    fh.buffer.write(buf.getvalue().to_pybytes()) if hasattr(fh, "buffer") else fh.write(
+        buf.getvalue().to_pybytes().decode("utf-8"))
+    return True
+
+
 def _write(fh, columns: Sequence[tuple[str, Iterable]], block: int = 10_000) -> None:
     cols, n = _check_lengths(columns)
     if _numeric(cols):
-        _write_numeric(fh, [h for h, _ in columns], cols, n)
+        headers = [h for h, _ in columns]
+        if n >= ARROW_ROWS and _write_arrow(fh, headers, cols):
+            return
+        _write_numeric(fh, headers, cols, n)
         return
     writer = csv.writer(fh, lineterminator="\n")
     writer.writerow([h for h, _ in columns])
@@ -237,6 +306,34 @@ def write_table(path: str | Path, columns: Sequence[tuple[str, Iterable]]) -> No
     """Write ``[(header, values), ...]`` as a CSV file, block by block (little memory)."""
     with open(path, "w", encoding="utf-8", newline="") as fh:
         _write(fh, columns)
+
+
+def write_parquet(path: str | Path, columns: Sequence[tuple[str, Iterable]]) -> None:
+    """Write ``[(header, values), ...]`` as a Parquet file (needs pyarrow).
+
+    Column names are the ``name [unit]`` headers; each field's metadata holds its ``unit``.
+    """
+    pa = parquet_library()
+    import pyarrow.parquet as pq
+
+    cols, _ = _check_lengths(columns)
+    fields, arrays = [], []
+    for (h, _), c in zip(columns, cols, strict=True):
+        arr = arrow_array(np.asarray(c))
+        unit = h.split(" [", 1)[1][:-1] if " [" in h else ""
+        fields.append(pa.field(h, arr.type, metadata={"unit": unit}))
+        arrays.append(arr)
+    pq.write_table(pa.Table.from_arrays(arrays, schema=pa.schema(fields)), str(path))
+
+
+def parquet_library():
+    """pyarrow, or a DataError saying how to install it (for ``--format parquet``)."""
+    try:
+        import pyarrow
+    except ImportError:
+        raise DataError("--format", "parquet", "needs pyarrow: pip install 'kappa[parquet]' "
+                        "(or pip install pyarrow); or use --format csv") from None
+    return pyarrow
 
 
 def axis_columns(axes) -> list[str]:

@@ -14,7 +14,7 @@ import re
 from kappa.errors import ConfigError, KappaError
 
 __all__ = ["registry", "parse_quantity", "parse_unit", "unit_factor", "format_quantity",
-           "parse_window", "MAX_UNIT_LENGTH", "MAX_EXPONENT"]
+           "parse_window", "parse_temperature_difference", "MAX_UNIT_LENGTH", "MAX_EXPONENT"]
 
 #: Longest unit expression handed to pint [characters] (``W/(m K)`` has 7).
 MAX_UNIT_LENGTH = 100
@@ -49,12 +49,14 @@ _COMPACT = [  # compact lab spellings → explicit products (W/mK is not "watt p
     (re.compile(r"/\s*kg\s*[-·.]?\s*K\b"), "/(kg K)"),
     (re.compile(r"/\s*mol\s*[-·.]?\s*K\b"), "/(mol K)"),
 ]
+_DEGREES = re.compile(r"°\s*([CF])\b")  # °C, ° C → degC (°F → degF)
 _EXPONENT = re.compile(r"(?<=[A-Za-zΩ)])(-?\d+)\b")  # m-1, cm-3, mm2 → m^-1, cm^-3, mm^2
 
 
 def normalize_unit(text: str) -> str:
     """Rewrite common lab spellings into ones pint parses (``W/mK``, ``m-1``, ``mm2``, ``µ``)."""
     t = text.strip().replace("µ", "u").replace("μ", "u").replace("·", " ").replace("⋅", " ")
+    t = _DEGREES.sub(lambda m: "deg" + m.group(1), t.replace("℃", "degC").replace("℉", "degF"))
     t = t.replace("²", "^2").replace("³", "^3").replace("⁻¹", "^-1")
     for pattern, repl in _COMPACT:
         t = pattern.sub(repl, t)
@@ -125,8 +127,84 @@ def unit_factor(unit: str, target: str, key: str, *, error: type[KappaError] = C
     return result
 
 
-@functools.lru_cache(maxsize=1024)
+#: Version of the stored conversion factors (raise it when the unit definitions change).
+_STORE_VERSION = 1
+_store: dict = {}
+
+
+def _store_path() -> str:
+    import os
+
+    from kappa.core.cache import cache_root
+
+    root, _ = cache_root()
+    return os.path.join(root, "units", f"factors-{_STORE_VERSION}.json") if root else ""
+
+
+def _load_store() -> dict:
+    """Conversion factors found on earlier runs (unit, target → scale, offset), so that a run
+    whose units are all known does not load the units library at all (it takes 0.2 s)."""
+    if "factors" not in _store:
+        import json
+
+        factors: dict = {}
+        path = _store_path()
+        try:
+            with open(path, encoding="utf-8") as fh:
+                data = json.load(fh)
+            if data.get("pint") == _pint_version():
+                factors = {k: tuple(v) for k, v in data["factors"].items()
+                           if isinstance(v, list) and len(v) == 2}
+        except (OSError, ValueError, KeyError, TypeError, AttributeError):
+            factors = {}
+        _store["factors"] = factors
+    return _store["factors"]
+
+
+def _pint_version() -> str:
+    from importlib.metadata import PackageNotFoundError, version
+
+    try:
+        return version("pint")
+    except PackageNotFoundError:  # pragma: no cover - pint is a dependency
+        return ""
+
+
+def _remember(key: str, value: tuple[float, float]) -> None:
+    """Add a factor to the store on disk (atomically; nothing happens if it cannot be
+    written)."""
+    import json
+    import os
+    import tempfile
+
+    factors = _load_store()
+    factors[key] = value
+    path = _store_path()
+    if not path:
+        return
+    try:
+        os.makedirs(os.path.dirname(path), exist_ok=True)
+        fd, tmp = tempfile.mkstemp(dir=os.path.dirname(path), suffix=".partial")
+        with os.fdopen(fd, "w", encoding="utf-8") as fh:
+            json.dump({"pint": _pint_version(), "factors": factors}, fh)
+        os.replace(tmp, path)
+    except (OSError, ValueError):
+        pass
+
+
 def _factor(unit: str, target: str):
+    key = f"{unit}\x1f{target}"
+    hit = _load_store().get(key)
+    if hit is not None:
+        return hit
+    result = _factor_pint(unit, target)
+    if isinstance(result, tuple) and len(_load_store()) < 10_000:
+        _remember(key, result)
+    return result
+
+
+@functools.lru_cache(maxsize=1024)
+def _factor_pint(unit: str, target: str):
     ureg = registry()
     try:
         src = _unit(unit)
@@ -227,6 +305,25 @@ def parse_window(text: str | None, option: str = "--window", *,
         raise error(option, text, "the lower temperature must be below the upper one, "
                     "e.g. 300K:450K")
     return lo, hi
+
+
+def parse_temperature_difference(value: object, key: str, *,
+                                 error: type[KappaError] = ConfigError) -> float:
+    """A temperature difference in kelvin: ``5K``, ``5 degC`` (a difference, not 278 K), ``5``.
+
+    Raises ``error`` naming ``key`` for a value without the dimension of a temperature.
+    """
+    text = str(value).strip()
+    match = _NUMBER.match(text)
+    if not match or math.isnan(float(match.group(1))):
+        raise error(key, value, "a temperature difference, e.g. 5K")
+    number, unit = float(match.group(1)), match.group(2).strip()
+    if normalize_unit(unit) in ("degC", "delta_degC", "C"):
+        return number
+    if normalize_unit(unit) in ("degF", "delta_degF"):
+        return number * 5.0 / 9.0
+    scale, offset = unit_factor(unit or "K", "K", key, error=error, shown=value)
+    return number * scale
 
 
 def format_quantity(value: float, unit: str, digits: int = 12) -> str:

@@ -10,7 +10,15 @@ from typing import Any
 
 import numpy as np
 
-from kappa.presentation.style import KAPPA_L_LABEL, log_axes, mechanism_title, new_figure
+from kappa.presentation.predict import short_title
+from kappa.presentation.style import (
+    KAPPA_L_LABEL,
+    T_LABEL,
+    log_axes,
+    mechanism_title,
+    new_figure,
+    styled,
+)
 from kappa.workflows.fitting import FitResult
 from kappa.workflows.predict import Prediction, predict
 
@@ -32,6 +40,7 @@ def _log_axes(T: np.ndarray) -> bool:
     return T.min() > 0 and T.max() / T.min() >= 5.0
 
 
+@styled
 def plot_fit(result: FitResult, curves: Sequence[Prediction], title: str = "") -> Any:
     """One column per sample: data and fit (top), residuals (bottom). Returns the Figure.
 
@@ -71,21 +80,27 @@ def plot_fit(result: FitResult, curves: Sequence[Prediction], title: str = "") -
         if ax.get_yscale() == "log":
             ax.set_ylim(lo / 2.0, hi * 2.0)
         ax.set_ylabel(KAPPA_L_LABEL)
-        ax.set_title(s.name if n > 1 else (title or f"Fit: {s.model.material.name or s.name}"),
-                     fontsize=10)
+        ax.set_title(short_title(s.name if n > 1 else
+                                 (title or f"Fit: {s.model.material.name or s.name}")))
         ax.grid(True, which="both", alpha=0.3)
-        ax.legend(fontsize=7)
+        ax.legend(loc="best", fontsize="x-small")
         if result.weighted:
             rax.plot(d.temperature, s.normalized, "o", ms=4, color="tab:red")
-            rax.set_ylabel("(κ − fit)/σ")
+            rax.set_ylabel(r"$(\kappa_L - \mathrm{fit})/\sigma$")
         else:
             rax.plot(d.temperature, 100.0 * (d.kappa_L / s.kappa_L_fit - 1.0), "o", ms=4,
                      color="tab:red")
-            rax.set_ylabel("κ/fit − 1 [%]")
+            rax.set_ylabel(r"$\kappa_L/\mathrm{fit} - 1$ [%]")
         rax.axhline(0.0, color="black", lw=0.8)
         rax.set_xlim(ax.get_xlim())
-        rax.set_xlabel("T [K]")
+        rax.set_xlabel(T_LABEL)
         rax.grid(True, which="both", alpha=0.3)
+    if n > 1:  # a series: every sample on the same axes, so that the panels compare
+        data_axes = [axes[2 * (i // ncols), i % ncols] for i in range(n)]
+        res_axes = [axes[2 * (i // ncols) + 1, i % ncols] for i in range(n)]
+        _share(data_axes, [np.concatenate([s.data.kappa_L, c.kappa_L])
+                           for s, c in zip(result.samples, curves, strict=True)])
+        _share(res_axes, None)
     for j in range(n, (nrows // 2) * ncols):  # unused cells of the last row
         row, col = 2 * (j // ncols), j % ncols
         axes[row, col].set_visible(False)
@@ -95,13 +110,31 @@ def plot_fit(result: FitResult, curves: Sequence[Prediction], title: str = "") -
     return fig
 
 
+def _share(axes, values) -> None:
+    """The same x and y limits on every panel (the union of their limits, or of ``values``)."""
+    xs = [ax.get_xlim() for ax in axes]
+    lo_x, hi_x = min(x[0] for x in xs), max(x[1] for x in xs)
+    if values is not None:
+        v = np.concatenate([np.asarray(a, dtype=float).ravel() for a in values])
+        v = v[np.isfinite(v)]
+        log = axes[0].get_yscale() == "log"
+        lo_y, hi_y = (v.min() / 1.3, v.max() * 1.3) if log else (
+            v.min() - 0.06 * np.ptp(v), v.max() + 0.06 * np.ptp(v))
+    else:
+        ys = [ax.get_ylim() for ax in axes]
+        lo_y, hi_y = min(y[0] for y in ys), max(y[1] for y in ys)
+    for ax in axes:
+        ax.set_xlim(lo_x, hi_x)
+        ax.set_ylim(lo_y, hi_y)
+
+
 def add_band(ax: Any, temperature: np.ndarray, low: np.ndarray, high: np.ndarray,
              label: str = "68 % band (fit covariance)") -> Any:
     """Shade the band between ``low`` and ``high`` on ``ax``; returns ``ax``."""
     ax.fill_between(temperature, low, high, color="tab:blue", alpha=0.35, lw=0, label=label)
     ax.plot(temperature, low, color="tab:blue", lw=0.8)
     ax.plot(temperature, high, color="tab:blue", lw=0.8)
-    ax.legend(fontsize=8)
+    ax.legend(loc="best")
     return ax
 
 

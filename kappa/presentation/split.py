@@ -10,6 +10,7 @@ import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
+from kappa.presentation.style import styled
 from kappa.workflows.split import SplitResult
 
 __all__ = ["plot_split", "plot_kappa", "plot_lorenz", "plot_zT", "plot_series"]
@@ -73,10 +74,10 @@ def plot_kappa(result: SplitResult, ax: Any = None) -> Any:
         if b.onset is not None:
             ax.axvline(b.onset, color="tab:red", lw=1, ls="--",
                        label=f"bipolar onset {b.onset:.0f} K")
-    ax.set_xlabel("T [K]")
+    ax.set_xlabel(r"$T$ [K]")
     ax.set_ylabel(r"$\kappa$ [W/(m K)]")
     ax.set_ylim(bottom=min(0.0, float(np.nanmin(r.kappa_L_low))))
-    ax.legend(fontsize=7, ncols=2)
+    ax.legend(fontsize="x-small", ncols=2)
     return ax
 
 
@@ -89,9 +90,9 @@ def plot_lorenz(result: SplitResult, ax: Any = None) -> Any:
                     alpha=0.2, lw=0)
     ax.axhline(2.443, color="tab:gray", ls="--", lw=0.8, label="degenerate 2.44")
     ax.axhline(1.485, color="tab:gray", ls=":", lw=0.8, label="non-degenerate 1.49")
-    ax.set_xlabel("T [K]")
+    ax.set_xlabel(r"$T$ [K]")
     ax.set_ylabel(r"$L$ [$10^{-8}$ W $\Omega$ K$^{-2}$]")
-    ax.legend(fontsize=7)
+    ax.legend(fontsize="x-small")
     return ax
 
 
@@ -105,11 +106,12 @@ def plot_zT(result: SplitResult, ax: Any = None) -> Any:
     else:
         ax.plot(r.temperature, r.zT, "-", color="tab:red")
         ax.fill_between(r.temperature, r.zT_low, r.zT_high, color="tab:red", alpha=0.2, lw=0)
-    ax.set_xlabel("T [K]")
-    ax.set_ylabel("zT [1]")
+    ax.set_xlabel(r"$T$ [K]")
+    ax.set_ylabel(r"$zT$")
     return ax
 
 
+@styled
 def plot_split(result: SplitResult, title: str = "") -> Figure:
     """Three panels: kappa/kappa_e/kappa_L with bands, L(T), zT(T). Returns a new Figure.
 
@@ -126,7 +128,9 @@ def plot_split(result: SplitResult, title: str = "") -> Figure:
     a1.set_xlabel("")
     a2.set_xlabel("")
     if title:
-        fig.suptitle(title, fontsize=10)
+        from kappa.presentation.predict import short_title
+
+        fig.suptitle(short_title(title, 80))
     return fig
 
 

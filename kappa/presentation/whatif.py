@@ -11,6 +11,7 @@ from typing import Any
 
 import numpy as np
 
+from kappa.presentation.style import sequential_colors
 from kappa.presentation.sweep import MAX_LINES, MAX_PANELS, pick
 from kappa.workflows.sweep import SweepResult
 from kappa.workflows.whatif import WhatIf
@@ -20,15 +21,14 @@ __all__ = ["add_overlay_bands", "add_sweep_intervals", "add_alloy_bands"]
 _HATCH = "////"
 
 
-def add_overlay_bands(fig: Any, w: WhatIf) -> Any:
-    """Bands around the overlays of ``kappa predict --compare`` (colour ``C{i}`` of scenario i)
-    and a grey band around the config's own curve; unpinned stretches hatched."""
+def add_overlay_bands(fig: Any, w: WhatIf, order: Any = None) -> Any:
+    """Bands around the overlays of ``kappa predict --compare``, in the colours of their lines
+    (sequential, in the order of the values: ``order`` is ``argsort`` of the values, as the
+    figure draws them); unpinned stretches hatched. The config's own band is the figure's."""
     ax = fig.axes[0]
     T = w.temperature
-    ax.fill_between(T, w.reference_low, w.reference_high, color="tab:gray", alpha=0.25, lw=0,
-                    label="68 % (fit), config")
-    for i in range(w.size):
-        color = f"C{i % 10}"
+    order = np.arange(w.size) if order is None else np.asarray(order)
+    for color, i in zip(sequential_colors(w.size), order, strict=True):
         ax.fill_between(T, w.low[i], w.high[i], color=color, alpha=0.2, lw=0)
         bad = ~w.pinned[i]
         if bad.any():
@@ -37,8 +37,22 @@ def add_overlay_bands(fig: Any, w: WhatIf) -> Any:
     if (~w.pinned).any():
         ax.fill_between([], [], [], facecolor="none", edgecolor="black", hatch=_HATCH, lw=0,
                         label="not pinned by the data")
-    ax.legend(fontsize=7)
+    _legend_again(ax)
     return fig
+
+
+def _legend_again(ax) -> None:
+    """Redraw the legend where the figure had it (inside, or beside the panel)."""
+    from kappa.presentation.predict import add_legend
+
+    old = ax.get_legend()
+    beside = old is not None and old.get_bbox_to_anchor().x0 > ax.bbox.x1 - 1
+    handles, labels = ax.get_legend_handles_labels()
+    if beside:
+        ax.legend(handles, labels, loc="upper left", bbox_to_anchor=(1.02, 1.0),
+                  borderaxespad=0.0)
+    else:
+        add_legend(ax, outside_from=len(handles) + 1)
 
 
 def add_sweep_intervals(fig: Any, result: SweepResult, w: WhatIf) -> Any:
@@ -64,8 +78,8 @@ def add_sweep_intervals(fig: Any, result: SweepResult, w: WhatIf) -> Any:
     idx = tuple(slice(None) if i == d else 0 for i in range(len(sizes)))
     xv = result.axes[d].shown
     order = np.argsort(xv)
-    for n, t in enumerate(pick(result.temperature.size, MAX_LINES)):
-        color = f"C{n % 10}"
+    ts = pick(result.temperature.size, MAX_LINES)
+    for color, t in zip(sequential_colors(len(ts), "plasma"), ts, strict=True):
         lo, hi, b = low[idx][order, t], high[idx][order, t], bad[idx][order, t]
         ax.fill_between(xv[order], lo, hi, color=color, alpha=0.2, lw=0)
         if b.any():
@@ -74,7 +88,7 @@ def add_sweep_intervals(fig: Any, result: SweepResult, w: WhatIf) -> Any:
     if bad.any():
         ax.fill_between([], [], [], facecolor="none", edgecolor="black", hatch=_HATCH, lw=0,
                         label="not pinned by the data")
-        ax.legend(fontsize=8)
+        _legend_again(ax)
     return fig
 
 
@@ -85,8 +99,7 @@ def add_alloy_bands(fig: Any, w: WhatIf, most: int = MAX_LINES) -> Any:
     T = w.temperature
     picks = range(T.size) if T.size <= most else np.unique(
         np.round(np.linspace(0, T.size - 1, most)).astype(int))
-    for n, t in enumerate(picks):
-        color = f"C{n % 10}"
+    for color, t in zip(sequential_colors(len(picks), "plasma"), picks, strict=True):
         ax.fill_between(x, w.low[:, t], w.high[:, t], color=color, alpha=0.2, lw=0)
         bad = ~w.pinned[:, t]
         if bad.any():

@@ -17,9 +17,13 @@ Rules for merging (one or more files):
 * A **blank cell** means "not measured at this temperature": each quantity lives on the
   temperatures where its cells are filled.
 * The **common grid** is the temperatures of the thermal data (``kappa``, or ``D`` for the
-  flash trio). Every other quantity is interpolated linearly in T onto it, never
-  extrapolated: grid rows outside another quantity's measured range are dropped and reported.
-  A density given at a single temperature is used at all temperatures (reported).
+  flash trio). Every other quantity is interpolated linearly in T onto it. It is not
+  extrapolated unless an allowance is given (``extrapolate`` [K], ``--extrapolate 5K``): grid
+  rows up to that far outside another quantity's measured range are kept with a linear
+  extrapolation from the two nearest measured points, each reported; rows farther out are
+  dropped and reported. A density given at a single temperature is used at all temperatures
+  (reported), and so is a constant (:class:`Constant`: density or heat capacity given once, in
+  a file's note or as an option).
 * A cell written ``nan`` marks an invalid measurement. NaN policy ``raise`` (default): an error
   naming file, row and column. ``omit``: that row of that file is dropped and reported. A blank
   or NaN temperature is treated the same way.
@@ -43,7 +47,8 @@ from numpy.typing import ArrayLike
 from kappa.core.composition import dulong_petit_heat_capacity, mean_molar_mass
 from kappa.errors import DataError, warn
 
-__all__ = ["Measurements", "MeasuredColumn", "MeasuredFile", "QUANTITIES", "merge_files",
+__all__ = ["Measurements", "MeasuredColumn", "MeasuredFile", "Constant", "QUANTITIES",
+           "CONSTANTS", "MAX_EXTRAPOLATION", "merge_files", "check_extrapolation",
            "measurements_from_arrays", "NAN_POLICIES", "PLAUSIBLE", "SEEBECK_IMPOSSIBLE"]
 
 NAN_POLICIES = ("raise", "omit")
@@ -142,6 +147,32 @@ class _Series:
     values: np.ndarray
     where: str  # "file, column 'header'"
     source: str  # file name
+    constant: bool = False
+
+
+#: Quantities that may be given once for a whole file or run (a sample-sheet value).
+CONSTANTS = ("rho", "cp")
+#: Largest extrapolation allowance [K]: beyond a few kelvin a measured curve may bend.
+MAX_EXTRAPOLATION = 50.0
+
+
+@dataclass(frozen=True)
+class Constant:
+    """A quantity given once (density or heat capacity), used at every temperature.
+
+    Attributes
+    ----------
+    name : str
+        ``rho`` or ``cp`` (see :data:`CONSTANTS`).
+    value : float
+        In the SI unit of the quantity.
+    where : str
+        Where it was given (``flash.csv, line 2 'rho = 3.08 g/cm^3'`` or ``--density``).
+    """
+
+    name: str
+    value: float
+    where: str
 
 
 @dataclass
@@ -271,7 +302,8 @@ def _check_source(src: MeasuredFile) -> None:
                             f"the {QUANTITIES[name].what} must be {words}")
 
 
-def _series(sources: Sequence[MeasuredFile]) -> dict[str, _Series]:
+def _series(sources: Sequence[MeasuredFile],
+            constants: Sequence[Constant] = ()) -> dict[str, _Series]:
     found: dict[str, _Series] = {}
     for src in sources:
         for name, col in src.columns.items():
@@ -280,15 +312,42 @@ def _series(sources: Sequence[MeasuredFile]) -> dict[str, _Series]:
                                 f"already given in {found[name].where}; give each quantity once")
             ok = ~np.isnan(col.values)
             found[name] = _Series(name, src.T.values[ok], col.values[ok], col.where, src.label)
+    for c in constants:
+        if c.name not in CONSTANTS:
+            raise DataError(c.where, c.name, f"only {', '.join(CONSTANTS)} may be given once")
+        if c.name in found:
+            raise DataError(c.where, c.name,
+                            f"already given in {found[c.name].where}; give each quantity once")
+        q = QUANTITIES[c.name]
+        if not (np.isfinite(c.value) and c.value > 0):
+            raise DataError(c.where, c.value, f"the {q.what} must be a finite number > 0")
+        found[c.name] = _Series(c.name, np.empty(0), np.array([c.value]), c.where, c.where,
+                                constant=True)
     return found
 
 
+def _extrapolated(grid: np.ndarray, s: _Series, outside: np.ndarray) -> np.ndarray:
+    """Linear extrapolation of ``s`` at the grid rows ``outside`` its range (end segments)."""
+    lo = grid < s.T[0]
+    out = np.interp(grid, s.T, s.values)
+    slope_lo = (s.values[1] - s.values[0]) / (s.T[1] - s.T[0])
+    slope_hi = (s.values[-1] - s.values[-2]) / (s.T[-1] - s.T[-2])
+    out = np.where(outside & lo, s.values[0] + slope_lo * (grid - s.T[0]), out)
+    return np.where(outside & ~lo, s.values[-1] + slope_hi * (grid - s.T[-1]), out)
+
+
 def _merge(sources: Sequence[MeasuredFile], composition: str | None,
-           dropped: list[str]) -> Measurements:
+           dropped: list[str], constants: Sequence[Constant] = (),
+           extrapolate: float = 0.0) -> Measurements:
     labels = ", ".join(s.label for s in sources)
-    found = _series(sources)
+    found = _series(sources, constants)
     notes: list[str] = []
     # --- which thermal and electrical inputs -------------------------------------------------
+    if "kappa" in found:
+        for n in [n for n in CONSTANTS if n in found and found[n].constant]:
+            notes.append(f"{QUANTITIES[n].what} from {found[n].where} not used: the data give "
+                         "kappa directly")
+            del found[n]
     flash = [n for n in ("D", "rho", "cp") if n in found]
     if "kappa" in found and flash:
         raise DataError(found["kappa"].where, "kappa and " + ", ".join(flash),
@@ -329,11 +388,15 @@ def _merge(sources: Sequence[MeasuredFile], composition: str | None,
                 del found["cp"]
         else:
             cp_source = f"measured ({found['cp'].where})"
-    # --- interpolate onto the grid, never extrapolate -------------------------------------------
+    # --- interpolate onto the grid (extrapolate only within the allowance) ---------------------
     values: dict[str, np.ndarray] = {}
     for name, s in found.items():
         if s is base:
             values[name] = s.values.copy()
+            continue
+        if s.constant:
+            values[name] = np.full(grid.size, s.values[0])
+            notes.append(f"{QUANTITIES[name].what} from {s.where} used at all temperatures")
             continue
         if s.T.size == 0:
             raise DataError(s.where, "no values", "the column is empty")
@@ -347,12 +410,21 @@ def _merge(sources: Sequence[MeasuredFile], composition: str | None,
                             "needs values at 2 or more temperatures to interpolate")
         tol = 1e-9 * np.maximum(grid, 1.0)
         inside = (grid >= s.T[0] - tol) & (grid <= s.T[-1] + tol)
-        for i in np.flatnonzero(keep & ~inside):
+        near = (grid >= s.T[0] - extrapolate - tol) & (grid <= s.T[-1] + extrapolate + tol)
+        allowance = (f"beyond the allowance of {extrapolate:g} K" if extrapolate > 0 else
+                     "not extrapolated (allow a few kelvin with --extrapolate, e.g. 5K)")
+        for i in np.flatnonzero(keep & ~near):
             dropped.append(f"T = {_fmt_T(grid[i])}: outside the measured range of {name} "
-                           f"({_fmt_T(s.T[0])} to {_fmt_T(s.T[-1])}, {s.source}); "
-                           "not extrapolated")
-        keep &= inside
-        values[name] = np.interp(grid, s.T, s.values)
+                           f"({_fmt_T(s.T[0])} to {_fmt_T(s.T[-1])}, {s.source}); {allowance}")
+        outside = near & ~inside
+        for i in np.flatnonzero(keep & outside):
+            end = s.T[0] if grid[i] < s.T[0] else s.T[-1]
+            notes.append(f"T = {_fmt_T(grid[i])}: {name} extrapolated linearly from "
+                         f"{_fmt_T(end)} ({abs(grid[i] - end):.3g} K outside the measured "
+                         f"range of {s.source}; allowance {extrapolate:g} K)")
+        keep &= near
+        values[name] = (_extrapolated(grid, s, outside) if outside.any()
+                        else np.interp(grid, s.T, s.values))
         same = s.T.size == grid.size and np.allclose(s.T, grid, rtol=1e-12, atol=0)
         if not same:
             notes.append(f"{name} from {s.where} interpolated linearly onto the temperatures "
@@ -416,16 +488,36 @@ def _check_nan_policy(nan: str) -> None:
         raise DataError("--nan", nan, "raise or omit")
 
 
+def check_extrapolation(extrapolate: float) -> float:
+    """The extrapolation allowance [K], checked: 0 to :data:`MAX_EXTRAPOLATION`."""
+    value = float(extrapolate)
+    if not (0.0 <= value <= MAX_EXTRAPOLATION):
+        raise DataError("extrapolate", extrapolate,
+                        f"a temperature difference from 0 to {MAX_EXTRAPOLATION:g} K (a small "
+                        "allowance, e.g. 5 K)")
+    return value
+
+
 def merge_files(files: Sequence[MeasuredFile], *, nan: str = "raise",
-                composition: str | None = None) -> Measurements:
+                composition: str | None = None, constants: Sequence[Constant] = (),
+                extrapolate: float = 0.0) -> Measurements:
     """Validate measured files (already in SI units) and merge them onto one grid.
 
     Applies the NaN policy, checks every file (temperatures, signs, impossible values) and
     merges as described in the module docstring. Files are read by
     :func:`kappa.io.measurements.read_measurements`; arrays go through
     :func:`measurements_from_arrays`.
+
+    Parameters
+    ----------
+    constants : sequence of Constant
+        Density or heat capacity given once (used at every temperature).
+    extrapolate : float
+        How far [K] a quantity may be extrapolated linearly beyond its measured range onto
+        the temperatures of the thermal data (default 0: never); each such row is reported.
     """
     _check_nan_policy(nan)
+    extrapolate = check_extrapolation(extrapolate)
     if composition:
         mean_molar_mass(composition, "--composition")  # validate before anything else
     dropped: list[str] = []
@@ -434,7 +526,7 @@ def merge_files(files: Sequence[MeasuredFile], *, nan: str = "raise",
         f = _apply_nan_policy(f, nan, dropped)
         _check_source(f)
         checked.append(f)
-    return _merge(checked, composition, dropped)
+    return _merge(checked, composition, dropped, constants, extrapolate)
 
 
 #: Argument names of :func:`measurements_from_arrays` for the quantities (for messages).

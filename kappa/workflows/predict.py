@@ -27,12 +27,16 @@ from kappa.core.limits import (
 )
 from kappa.core.model import Model
 from kappa.errors import ConfigError, warn
+from kappa.workflows.export import Tabular, frame, key_column
 
-__all__ = ["Prediction", "predict", "compare", "issue_warnings"]
+__all__ = ["Prediction", "predict", "compare", "issue_warnings", "comparison_columns",
+           "KAPPA_UNIT"]
+
+KAPPA_UNIT = "W/(m K)"
 
 
 @dataclass(frozen=True)
-class Prediction:
+class Prediction(Tabular):
     """κ_L(T) of one model.
 
     Attributes
@@ -72,6 +76,21 @@ class Prediction:
     def acoustic(self) -> np.ndarray:
         """The acoustic branches' part of κ_L [W/(m K)]."""
         return sum(self.branches.values())
+
+    def columns(self) -> list[tuple[str, np.ndarray]]:
+        """Columns of ``kappa_L.csv``: ``T [K]``, ``kappa_L``, κ_L without each resistive
+        mechanism (``kappa_L_without_KEY``), the acoustic and optical parts (several atoms per
+        cell), the branches (per-branch models) and ``C_V [J/(mol K)]``."""
+        u = f" [{KAPPA_UNIT}]"
+        cols = [("T [K]", self.temperature), ("kappa_L" + u, self.kappa_L)]
+        cols += [(f"kappa_L_without_{key}" + u, k) for key, k in self.without.items()]
+        if self.optical is not None:
+            cols += [("kappa_L_acoustic" + u, self.acoustic),
+                     ("kappa_L_optical" + u, self.optical)]
+        if self.model.material.per_branch:
+            cols += [(f"kappa_L_{label}" + u, k) for label, k in self.branches.items()]
+        cols.append(("C_V [J/(mol K)]", self.molar_heat_capacity))
+        return cols
 
 
 def issue_warnings(model: Model, temperature) -> None:
@@ -167,3 +186,23 @@ def compare(model: Model, key: str, values: Sequence[float], temperature
         raise ConfigError(key, allowed=f"has no effect in this model: {reason}")
     return [predict(model.with_values({key: float(v)}), temperature, switch_off=False,
                     warnings=False) for v in values]
+
+
+def comparison_columns(key: str, parameter, values: Sequence[float],
+                       predictions: Sequence[Prediction]) -> list[tuple[str, np.ndarray]]:
+    """Long-form columns of several predictions of one key: one row per value and temperature.
+
+    ``[(KEY [unit], values shown), ("T [K]", ...), ("kappa_L [W/(m K)]", ...)]``; the key's
+    column is its last part in its display unit (``grain_size [nm]``).
+    """
+    nT = predictions[0].temperature.size
+    shown = np.asarray(parameter.shown(np.asarray(values, dtype=float)), dtype=float)
+    return [(key_column(key, parameter), np.repeat(shown, nT)),
+            ("T [K]", np.concatenate([p.temperature for p in predictions])),
+            (f"kappa_L [{KAPPA_UNIT}]", np.concatenate([p.kappa_L for p in predictions]))]
+
+
+def comparison_frame(key: str, parameter, values: Sequence[float],
+                     predictions: Sequence[Prediction]):
+    """:func:`comparison_columns` as a ``pandas.DataFrame`` (needs pandas)."""
+    return frame(comparison_columns(key, parameter, values, predictions))

@@ -17,12 +17,13 @@ last value (x = θ_j/T, cut at x = 40 as everywhere in kappa) is κ_L of ``predi
 
 **Cumulative over mean free path**, all branches merged: K(Λ) = Σ_j pre_j ∫_{Λ_j(x) ≤ Λ}
 τ_eff w dx. Λ_j(x) is sampled on a dense logarithmic grid, its extrema are refined, and between
-them it is monotonic, so {x: Λ_j(x) ≤ Λ} is a union of intervals whose ends are found by
-bisection to machine precision; each interval's share is a difference of the frequency
+them it is monotonic, so {x: Λ_j(x) ≤ Λ} is a union of intervals whose ends are found to
+machine precision (regula falsi safeguarded by bisection, from the grid cell that holds them); each interval's share is a difference of the frequency
 cumulative above. K is therefore exact to the kernel's accuracy at every Λ for any rate — a
 polynomial or not — whether or not Λ(x) is monotonic (an extremum narrower than the grid
 spacing, about 2 % in x, could be missed). Λ50 and Λ80 are the smallest Λ with K(Λ) ≥ 50 % and
-80 % of κ_L (bisection in ln Λ).
+80 % of κ_L: K is tabulated once on a grid of Λ that brackets them, then bisection in ln Λ to
+10⁻¹⁴ for all quantiles at once.
 """
 
 from __future__ import annotations
@@ -44,6 +45,7 @@ from kappa.core.evaluator import (
 from kappa.core.model import Model
 from kappa.core.quadrature import EPS_LOW
 from kappa.errors import ConfigError, warn
+from kappa.workflows.export import Tabular, frame
 
 __all__ = ["Spectrum", "spectrum", "SPECTRUM_POINTS", "MFP_POINTS", "MAX_TEMPERATURES"]
 
@@ -53,8 +55,10 @@ MAX_TEMPERATURES = 20  #: temperatures per spectrum
 _CLOSURE = 1e-6  #: required agreement of the mean-free-path cumulative with κ_L
 _GRID = 1200  #: samples of Λ(x) per branch (log-spaced)
 _LAM_SLACK = 1e-13  #: Λ(x) within this relative distance of Λ counts as "≤ Λ" (constant Λ(x))
-_BISECT = 52  #: bisection steps in ln x for an interval end (from one grid cell)
 _FLAT = 1e-12  #: relative steps of Λ(x) below this are rounding, not a rise or fall
+_BISECT = 120  #: most root-finding steps in ln x for an interval end (from one grid cell)
+_ROOT_TOL = 4e-16  #: relative width in ln x at which an interval end counts as found
+_LAM_GRID = 65  #: mean free paths on which K(Λ) is tabulated to bracket the quantiles
 
 
 @dataclass(frozen=True)
@@ -123,17 +127,64 @@ class _Branch:
 
     def _roots(self, px: np.ndarray, pl: np.ndarray, lam: np.ndarray) -> np.ndarray:
         """x where Λ(x) = lam on a piece where Λ increases along ``px`` (``px`` may run either
-        way in x; vectorised bisection).
+        way in x; vectorised).
 
-        Values of lam outside the piece's range give an end of the piece (callers mask them).
+        Each root is bracketed by the grid cell that holds it and found by a safeguarded
+        regula falsi (Illinois) in ln x against ln Λ, with a bisection step every third step,
+        until the bracket is a few units in the last place of ln x (machine precision). Values of lam outside the piece's range give an end of the piece (callers
+        mask them).
         """
         i = np.clip(np.searchsorted(pl, lam), 1, pl.size - 1)
         lo, hi = np.log(px[i - 1]), np.log(px[i])  # Λ(lo) ≤ lam < Λ(hi)
-        for _ in range(_BISECT):
-            mid = 0.5 * (lo + hi)
-            below = self.state.mean_free_path(np.exp(mid), self.beta) <= lam
-            lo, hi = np.where(below, mid, lo), np.where(below, hi, mid)
+        target = np.log(np.maximum(lam, 1e-300))
+
+        def f(u: np.ndarray, which: np.ndarray) -> np.ndarray:
+            lam_u = self.state.mean_free_path(np.exp(u), self.beta)
+            return np.log(np.maximum(lam_u, 1e-300)) - target[which]
+
+        with np.errstate(divide="ignore", invalid="ignore"):
+            flo = np.log(np.maximum(pl[i - 1], 1e-300)) - target
+            fhi = np.log(np.maximum(pl[i], 1e-300)) - target
+        outside = ~((flo <= 0) & (fhi > 0))  # lam beyond the piece: an end (callers mask it)
+        lo, hi = np.where(outside, hi, lo), hi
+        lo, hi = _bracketed(f, lo, hi, flo, fhi, _ROOT_TOL, relative=True, ftol=1e-15)
         return np.exp(0.5 * (lo + hi))
+
+
+def _bracketed(f, lo: np.ndarray, hi: np.ndarray, flo: np.ndarray, fhi: np.ndarray,
+               tol: float, relative: bool = False, steps: int = _BISECT, ftol: float = 0.0
+               ) -> tuple[np.ndarray, np.ndarray]:
+    """Shrink brackets with f(lo) ≤ 0 < f(hi) (``lo`` may lie above ``hi``; vectorised).
+
+    Safeguarded regula falsi (Illinois): the secant point, with the function value at an end
+    kept twice in a row halved, and a bisection step every third step, so that the bracket
+    always shrinks; each bracket stops when narrower than ``tol`` (times max(1, |lo|) with
+    ``relative``), or closes on a point where |f| ≤ ``ftol`` (the root to rounding). ``f(u, which)`` evaluates at the points ``u`` of the brackets ``which``
+    (a boolean mask). Returns the final (lo, hi): f(lo) ≤ 0 < f(hi) still holds.
+    """
+    lo, hi, flo, fhi = (np.array(a, dtype=float) for a in (lo, hi, flo, fhi))
+    kept = np.zeros(lo.shape, dtype=np.int8)  # +1: hi kept last step, -1: lo kept
+    for step in range(steps):
+        scale = np.maximum(1.0, np.abs(lo)) if relative else 1.0
+        active = np.abs(hi - lo) > tol * scale
+        if not active.any():
+            break
+        a, b, fa, fb = lo[active], hi[active], flo[active], fhi[active]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            secant = a - fa * (b - a) / (fb - fa)
+        ok = np.isfinite(secant) & ((secant - a) * (secant - b) < 0) & (step % 3 != 2)
+        u = np.where(ok, secant, 0.5 * (a + b))
+        fu = f(u, active)
+        below = fu <= 0
+        k = kept[active]
+        new_fb = np.where(below, np.where(k == 1, 0.5 * fb, fb), fu)
+        new_fa = np.where(below, fu, np.where(k == -1, 0.5 * fa, fa))
+        hit = np.abs(fu) <= ftol  # at the root to rounding: the bracket closes on u
+        lo[active] = np.where(below | hit, u, a)
+        hi[active] = np.where(below & ~hit, b, u)
+        flo[active], fhi[active] = new_fa, new_fb
+        kept[active] = np.where(below, 1, -1)
+    return lo, hi
 
 
 def _extremum(state: BranchState, beta: float, a: float, b: float, maximum: bool) -> float:
@@ -169,41 +220,59 @@ def _cumulative(branches: Sequence[_Branch], lams) -> np.ndarray:
         parts = b.intervals(lams)
         ends = np.concatenate([np.concatenate([left, right]) for left, right in parts])
         inner = np.unique(ends[(ends > 0.0) & (ends < b.state.x_top)])
-        G = dict.fromkeys((0.0,), 0.0)
-        G[b.state.x_top] = b.kappa
-        if inner.size:
-            for x, g in zip(inner, b.state.cumulative(inner, b.beta), strict=True):
-                G[float(x)] = float(g)
+        # the cumulative at every distinct end: 0 at x = 0, κ_j at the top, the kernel between
+        xs = np.concatenate([[0.0], inner, [b.state.x_top]])
+        gs = np.concatenate([[0.0], b.state.cumulative(inner, b.beta) if inner.size else [],
+                             [b.kappa]])
+
+        def at(v: np.ndarray, xs=xs, gs=gs) -> np.ndarray:
+            return np.where(v > 0, gs[np.clip(np.searchsorted(xs, v), 0, xs.size - 1)], 0.0)
+
         for left, right in parts:
-            gl = np.array([G[float(v)] if v > 0 else 0.0 for v in left])
-            gr = np.array([G[float(v)] if v > 0 else 0.0 for v in right])
-            out += np.maximum(gr - gl, 0.0)
+            out += np.maximum(at(right) - at(left), 0.0)
     return out
 
 
-def _fraction_mfp(branches: Sequence[_Branch], fraction: float) -> float:
-    """Smallest Λ with K(Λ) ≥ fraction·κ_L: bisection in ln Λ (K is non-decreasing in Λ)."""
+def _fractions_mfp(branches: Sequence[_Branch], fractions: Sequence[float]) -> np.ndarray:
+    """Smallest Λ with K(Λ) ≥ fraction·κ_L, for each fraction (K is non-decreasing in Λ).
+
+    K is tabulated once on :data:`_LAM_GRID` mean free paths spanning every phonon's; each
+    fraction is bracketed by the grid and found by bisection in ln Λ to 10⁻¹⁴, all fractions
+    at once (one cumulative per step).
+    """
+    fractions = np.asarray(fractions, dtype=float)
     total = sum(b.kappa for b in branches)
-    target = fraction * total
+    target = fractions * total
     spans = [b.span for b in branches]
-    lo = math.log(min(s[0] for s in spans)) - 1e-9
-    hi = math.log(max(s[1] for s in spans)) + 1e-9
-    if _cumulative(branches, [math.exp(lo)])[0] >= target:
-        return math.exp(lo)
-    for _ in range(200):
-        mid = 0.5 * (lo + hi)
-        if _cumulative(branches, [math.exp(mid)])[0] >= target:
-            hi = mid
-        else:
-            lo = mid
-        if hi - lo < 1e-14:
-            break
-    return math.exp(hi)
+    lo0 = math.log(min(s[0] for s in spans)) - 1e-9
+    hi0 = math.log(max(s[1] for s in spans)) + 1e-9
+    grid = np.linspace(lo0, hi0, _LAM_GRID)
+    K = _cumulative(branches, np.exp(grid))
+    first = np.searchsorted(K, target, side="left")  # K[first] ≥ target > K[first - 1]
+    done = first == 0
+    first = np.clip(first, 1, grid.size - 1)
+
+    def f(u: np.ndarray, which: np.ndarray) -> np.ndarray:
+        k = _cumulative(branches, np.exp(u)) - target[which]
+        return np.where(k >= 0, np.maximum(k, 1e-300 * total), k)  # ≥ target counts as above
+
+    lo, hi = _bracketed(f, grid[first - 1], grid[first], K[first - 1] - target,
+                        np.maximum(K[first] - target, 1e-300 * total), 1e-14, steps=300)
+    return np.where(done, math.exp(lo0), np.exp(hi))
 
 
-def _mfp_grid(branches: Sequence[_Branch], points: int) -> tuple[np.ndarray, np.ndarray]:
-    """Λ grid for tables and figures and K(Λ) on it; the last point is the largest Λ (K = κ_L)."""
-    lo, hi = _fraction_mfp(branches, 1e-4), _fraction_mfp(branches, 1.0 - 1e-4)
+def _fraction_mfp(branches: Sequence[_Branch], fraction: float) -> float:
+    """Smallest Λ with K(Λ) ≥ fraction·κ_L (see :func:`_fractions_mfp`)."""
+    return float(_fractions_mfp(branches, [fraction])[0])
+
+
+def _mfp_grid(branches: Sequence[_Branch], points: int,
+              ends: tuple[float, float] | None = None) -> tuple[np.ndarray, np.ndarray]:
+    """Λ grid for tables and figures and K(Λ) on it; the last point is the largest Λ (K = κ_L).
+
+    ``ends`` are the Λ where K reaches 10⁻⁴ and 1 − 10⁻⁴ of κ_L, if already known.
+    """
+    lo, hi = ends if ends is not None else _fractions_mfp(branches, [1e-4, 1.0 - 1e-4])
     grid = np.geomspace(lo, hi, points) if hi > lo * (1 + 1e-9) else np.array([lo])
     top = max(b.span[1] for b in branches)
     total = sum(b.kappa for b in branches)
@@ -217,7 +286,7 @@ def _mfp_grid(branches: Sequence[_Branch], points: int) -> tuple[np.ndarray, np.
 
 
 @dataclass(frozen=True)
-class Spectrum:
+class Spectrum(Tabular):
     """Spectral κ_L of a model at a few temperatures.
 
     Arrays indexed ``[t, j, k]`` run over temperature, branch and frequency point.
@@ -276,6 +345,38 @@ class Spectrum:
         """Smallest Λ with K(Λ) ≥ ``fraction`` (0–1) of κ_L, per temperature [m]."""
         return np.array([_fraction_mfp(branches, fraction) for branches in self._mfp])
 
+    def columns(self) -> list[tuple[str, np.ndarray]]:
+        """Columns of ``spectrum.csv``: one row per temperature, branch and frequency."""
+        nT, nB, N = self.frequency.shape
+        Ts = np.broadcast_to(self.temperature[:, None, None], (nT, nB, N)).ravel()
+        labels = np.broadcast_to(np.array(self.branches, dtype=object)[None, :, None],
+                                 (nT, nB, N)).ravel()
+        cols: list[tuple[str, np.ndarray]] = [
+            ("T [K]", Ts), ("branch", labels),
+            ("frequency [THz]", self.frequency.ravel() / 1e12),
+            ("kappa_spectral [W/(m K THz)]", self.spectral.ravel() * 1e12),
+            ("kappa_cumulative [W/(m K)]", self.cumulative.ravel()),
+            ("mfp [nm]", self.mfp.ravel() * 1e9),
+        ]
+        for key, r in self.rates.items():
+            cols.append((f"rate_{key} [1/s]", r.ravel()))
+        return cols
+
+    def mean_free_path_columns(self) -> list[tuple[str, np.ndarray]]:
+        """Columns of ``kappa_by_mean_free_path.csv``: ``T [K]``, ``mfp [nm]`` and
+        ``kappa_cumulative [W/(m K)]``, the κ_L carried by phonons with mean free path up to
+        Λ (log-spaced between 10⁻⁴ and 1 − 10⁻⁴ of κ_L, then the largest Λ, where it is κ_L)."""
+        Ts = [np.full(g.size, t) for t, g in zip(self.temperature, self.mfp_nodes, strict=True)]
+        return [("T [K]", np.concatenate(Ts)), ("mfp [nm]", np.concatenate(self.mfp_nodes) * 1e9),
+                ("kappa_cumulative [W/(m K)]", np.concatenate(self.mfp_cumulative))]
+
+    def to_pandas(self, table: str = "spectrum"):
+        """``table="spectrum"`` (per frequency, :meth:`columns`) or ``"mean_free_path"``
+        (:meth:`mean_free_path_columns`) as a ``pandas.DataFrame`` (needs pandas)."""
+        if table not in ("spectrum", "mean_free_path"):
+            raise ConfigError("table", table, "spectrum or mean_free_path")
+        return frame(self.columns() if table == "spectrum" else self.mean_free_path_columns())
+
     def mfp_cumulative_at(self, t: int, mfp) -> np.ndarray:
         """K(Λ) at temperature index ``t`` for mean free paths ``mfp`` [m] → [W/(m K)]."""
         return _cumulative(self._mfp[t], mfp)
@@ -315,7 +416,7 @@ def spectrum(model: Model, temperature, *, points: int = SPECTRUM_POINTS,
     freq, spec, cum, mfp = (np.empty((nT, nB, N)) for _ in range(4))
     rates = {key: np.empty((nT, nB, N)) for key in keys}
     branch_kappa, beta = np.empty((nT, nB)), np.zeros((nT, nB))
-    nodes, accs, all_mfp = [], [], []
+    nodes, accs, all_mfp, quantiles = [], [], [], []
     for t, temp in enumerate(T):
         built = [_Branch.build(state) for state in branch_states(model, temp)]
         for j, b in enumerate(built):
@@ -331,7 +432,9 @@ def spectrum(model: Model, temperature, *, points: int = SPECTRUM_POINTS,
             mfp[t, j] = s.mean_free_path(x, b.beta)
             for key, r in s.mechanism_rates(x).items():
                 rates[key][t, j] = r
-        grid, acc = _mfp_grid(built, mfp_points)
+        q = _fractions_mfp(built, [1e-4, 1.0 - 1e-4, 0.5, 0.8])
+        grid, acc = _mfp_grid(built, mfp_points, (float(q[0]), float(q[1])))
+        quantiles.append(q[2:])
         total = branch_kappa[t].sum()
         if not abs(acc[-1] - total) <= _CLOSURE * total:  # pragma: no cover - a bug guard
             raise RuntimeError(f"mean-free-path accumulation {acc[-1]:.9g} does not close on "
@@ -339,8 +442,8 @@ def spectrum(model: Model, temperature, *, points: int = SPECTRUM_POINTS,
         nodes.append(grid)
         accs.append(acc)
         all_mfp.append(tuple(built))
-    mfp50 = np.array([_fraction_mfp(b, 0.5) for b in all_mfp])
-    mfp80 = np.array([_fraction_mfp(b, 0.8) for b in all_mfp])
+    mfp50 = np.array([q[0] for q in quantiles])
+    mfp80 = np.array([q[1] for q in quantiles])
     cites = [CALLAWAY_CITATION, *model.material.citations(), *model.mechanisms.citations()]
     return Spectrum(T, labels, freq, spec, cum, mfp, rates, branch_kappa.sum(axis=1),
                     branch_kappa, beta, tuple(nodes), tuple(accs), mfp50, mfp80, model, cites,

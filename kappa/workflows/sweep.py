@@ -27,6 +27,7 @@ from kappa.core.evaluator import (
 from kappa.core.model import Model
 from kappa.core.parameters import Parameter
 from kappa.errors import ConfigError, warn
+from kappa.workflows.export import Tabular, key_columns, require
 
 __all__ = ["Axis", "SweepResult", "sweep", "grid_points", "check_axes", "MAX_POINTS"]
 
@@ -120,7 +121,7 @@ def grid_points(axes: Sequence[Axis], n_temperatures: int) -> int:
 
 
 @dataclass(frozen=True)
-class SweepResult:
+class SweepResult(Tabular):
     """κ_L on a grid.
 
     Attributes
@@ -162,6 +163,38 @@ class SweepResult:
         out["kappa_L_ratio"] = self.ratio.reshape(-1)
         assert out["kappa_L"].size == math.prod(shape)
         return out
+
+    @property
+    def column_names(self) -> list[str]:
+        """``name [unit]`` of each varied key (the last part of the key; the whole dotted
+        key where two last parts clash), in its display unit."""
+        return key_columns([a.key for a in self.axes], [a.parameter for a in self.axes])
+
+    def columns(self) -> list[tuple[str, np.ndarray]]:
+        """Long form, one row per grid point and temperature: one column per varied key (in
+        its display unit), ``T [K]``, ``kappa_L [W/(m K)]``, ``kappa_L_ratio [1]``."""
+        long = self.long_form()
+        cols = [(n, np.asarray(a.parameter.shown(long[a.key]), dtype=float))
+                for a, n in zip(self.axes, self.column_names, strict=True)]
+        return cols + [("T [K]", long["temperature"]), ("kappa_L [W/(m K)]", long["kappa_L"]),
+                       ("kappa_L_ratio [1]", long["kappa_L_ratio"])]
+
+    def to_xarray(self):
+        """The grid as an ``xarray.Dataset``: variables ``kappa_L`` and ``kappa_L_ratio`` over
+        one dimension per varied key (named by its last part, values in the display unit) and
+        ``T``; every variable and coordinate has ``attrs["units"]`` (and the dotted key).
+        Needs xarray (``pip install 'kappa[xarray]'``)."""
+        xr = require("xarray", "xarray")
+        dims = [n.split(" [")[0] for n in self.column_names] + ["T"]
+        coords = {d: (d, a.shown, {"units": a.unit, "key": a.key})
+                  for d, a in zip(dims, self.axes, strict=False)}
+        coords["T"] = ("T", self.temperature, {"units": "K"})
+        data = {"kappa_L": (dims, self.kappa_L, {"units": "W/(m K)",
+                                                 "long_name": "lattice thermal conductivity"}),
+                "kappa_L_ratio": (dims, self.ratio, {"units": "1", "long_name":
+                                                     "kappa_L relative to the config"})}
+        return xr.Dataset(data, coords=coords, attrs={"reference kappa_L [W/(m K)]":
+                                                      list(self.reference)})
 
 
 def sweep(model: Model, axes: Mapping[str, object] | Sequence[Axis], temperature, *,
