@@ -40,3 +40,56 @@ def test_numpy_twin_matches_compiled_kernels():
         kernel(xx, wq, count, x_s, grid, res, nrm, bt, bq, b)
         np.testing.assert_allclose(a, b, rtol=1e-12, equal_nan=True)
     assert np.isinf(a[:, 0]).any()  # the divergent samples are flagged the same way
+
+
+def test_numpy_twin_with_rates_at_the_nodes_matches_the_compiled_kernel():
+    from kappa.core.array_kernels import integrals_nodes_rules
+
+    tops, res, nrm = _samples(400, seed=5)
+    uniq, grid = np.unique(np.minimum(tops, 40.0), return_inverse=True)
+    xx, wq, count, x_s = rules(uniq)
+    bt, bq = block_rule()
+    grid = grid.astype(np.int64)
+    rng = np.random.default_rng(1)
+    X = xx[grid]
+    amp = 10 ** rng.uniform(6, 10, (grid.size, 1))
+    res_nodes = amp * X**2 / (1.0 + X**2)  # a rate that is not a polynomial in x
+    nrm_nodes = np.zeros_like(res_nodes)
+    res_low = np.zeros((grid.size, 5))
+    res_low[:, 2] = amp[:, 0]  # its x → 0 limit
+    nrm_low = np.zeros((grid.size, 5))
+    a = integrals_nodes_rules(xx, wq, count, x_s, grid, res, nrm, res_nodes, nrm_nodes,
+                              res_low, nrm_low, bt, bq)
+    b = np.empty_like(a)
+    kernels.callaway_integrals_nodes(xx, wq, count, x_s, grid, res, nrm, res_nodes, nrm_nodes,
+                                     res_low, nrm_low, bt, bq, b)
+    np.testing.assert_allclose(a, b, rtol=1e-12, equal_nan=True)
+
+
+def test_numpy_twin_of_curved_branches_matches_the_compiled_kernel():
+    from kappa.core.array_kernels import integrals_curved_rules
+    from kappa.core.dispersion import curved_rules
+
+    tops, res, nrm = _samples(300, seed=7)
+    rng = np.random.default_rng(2)
+    zbs = np.where(rng.random(tops.size) < 0.8, tops * rng.uniform(1.0, 1.5, tops.size), np.inf)
+    key = tops + 1j * np.where(np.isfinite(zbs), zbs, 1e300)
+    _, first, grid = np.unique(key, return_index=True, return_inverse=True)
+    xx, wq, gp, count, x_s = curved_rules(tops[first], zbs[first])
+    bt, bq = block_rule()
+    grid = grid.astype(np.int64).ravel()
+    res2 = np.zeros((tops.size, 2, 5))
+    res2[:, 0] = res
+    res2[:, 1, 0] = np.where(rng.random(tops.size) < 0.5, 10 ** rng.uniform(8, 10, tops.size),
+                             0.0)  # a boundary-like rate carried as v_g × σ(q)
+    res_low = res2.sum(axis=1)
+    for has in (False, True):
+        rn = 1e7 * xx[grid] if has else np.zeros((1, 1))
+        nn = np.zeros_like(rn)
+        a = integrals_curved_rules(xx, wq, gp, count, x_s, grid, res2, nrm, rn, nn, res_low,
+                                   nrm, has, bt, bq)
+        b = np.empty_like(a)
+        kernels.callaway_integrals_curved(xx, wq, gp, count, x_s, grid, res2, nrm, rn, nn,
+                                          res_low, nrm, has, bt, bq, b)
+        np.testing.assert_allclose(a, b, rtol=1e-12, equal_nan=True)
+        assert np.isinf(a[:, 0]).any()

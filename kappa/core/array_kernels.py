@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["integrals_shared_rules"]
+__all__ = ["integrals_shared_rules", "integrals_nodes_rules", "integrals_curved_rules"]
 
 _TAIL_TOL = 1e-10  # the compiled kernels' tolerance for the small-x blocks
 _MAX_BLOCKS = 38
@@ -81,3 +81,57 @@ def integrals_shared_rules(x, wq, count, x_s, grid, res, nrm, bt, bq) -> np.ndar
         out[ok, 0], out[ok, 1], out[ok, 2] = a, b, c
     out[diverges] = (np.inf, np.nan, np.nan)
     return out
+
+
+def _finish(i1, i2, i3, r_low, n_low, x_s, bt, bq) -> np.ndarray:
+    """Add ∫₀^{x_s} with the x → 0 polynomial rates; I₁ = inf where they have no x⁰–x² term."""
+    diverges = ~((r_low[:, 0] > 0) | (r_low[:, 1] > 0) | (r_low[:, 2] > 0))
+    ok = ~diverges
+    out = np.empty((i1.size, 3))
+    if ok.any():
+        a, b, c = _small_x(r_low[ok], n_low[ok], x_s[ok], bt, bq, i1[ok], i2[ok], i3[ok])
+        out[ok, 0], out[ok, 1], out[ok, 2] = a, b, c
+    out[diverges] = (np.inf, np.nan, np.nan)
+    return out
+
+
+def integrals_nodes_rules(x, wq, count, x_s, grid, res, nrm, res_nodes, nrm_nodes, res_low,
+                          nrm_low, bt, bq) -> np.ndarray:
+    """(I₁, I₂, I₃) per sample, shape (S, 3), as :func:`kappa.core.kernels.
+    callaway_integrals_nodes` (rates with non-polynomial parts at the nodes)."""
+    X = x[grid]
+    W = wq[grid]
+    M = X.shape[1]
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        rr = _poly(res, X) + res_nodes[:, :M]
+        rn = _poly(nrm, X) + nrm_nodes[:, :M]
+        tc = np.where(W == 0.0, 0.0, W / (rr + rn))
+        i1 = tc.sum(axis=1)
+        i2 = (tc * rn).sum(axis=1)
+        i3 = (tc * rn * rr).sum(axis=1)
+    return _finish(i1, i2, i3, res + res_low, nrm + nrm_low, x_s[grid], bt, bq)
+
+
+def integrals_curved_rules(x, wq, gp, count, x_s, grid, res, nrm, res_nodes, nrm_nodes,
+                           res_low, nrm_low, has_nodes, bt, bq) -> np.ndarray:
+    """(I₁, I₂, I₃) per sample, shape (S, 3), as :func:`kappa.core.kernels.
+    callaway_integrals_curved` (branches with a dispersion; same arguments)."""
+    X = x[grid]  # (S, M)
+    W = wq[grid]  # (S, 3, M)
+    G, P = gp[grid, 0], gp[grid, 1]
+    used = np.arange(X.shape[1])[None, :] < count[grid][:, None]
+    flux = np.any(res[:, 1] != 0.0, axis=1)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        rr = _poly(res[:, 0], X)
+        if flux.any():
+            rr = rr + np.where(flux[:, None], G * _poly(res[:, 1], X * P), 0.0)
+        rn = _poly(nrm, X)
+        if has_nodes:
+            rr = rr + res_nodes[:, : X.shape[1]]
+            rn = rn + nrm_nodes[:, : X.shape[1]]
+        tc = np.where(used, 1.0 / (rr + rn), 0.0)
+        w1, w2, w3 = (np.where(used, W[:, k], 0.0) for k in range(3))
+        i1 = (w1 * tc).sum(axis=1)
+        i2 = (w2 * tc * rn).sum(axis=1)
+        i3 = (w3 * tc * rn * rr).sum(axis=1)
+    return _finish(i1, i2, i3, res_low, nrm_low, x_s[grid], bt, bq)

@@ -214,11 +214,17 @@ def _integrals(tops: np.ndarray, res_x: np.ndarray, nrm_x: np.ndarray, nodes=Non
     else:
         uniq, grid = np.minimum(rule_index[0], X_CUT), rule_index[1]
     grid = np.ascontiguousarray(grid, dtype=np.int64).ravel()
-    if nodes is None and S < _ARRAY_BELOW:  # numpy: no compiled code to load for a small job
-        from kappa.core.array_kernels import integrals_shared_rules
+    if S < _ARRAY_BELOW:  # numpy: no compiled code to load for a small job
+        from kappa.core import array_kernels
 
         xx, wq, count, x_s = rules(uniq)
-        return integrals_shared_rules(xx, wq, count, x_s, grid, res_x, nrm_x, bt, bq)
+        if nodes is None:
+            return array_kernels.integrals_shared_rules(xx, wq, count, x_s, grid, res_x, nrm_x,
+                                                        bt, bq)
+        rn, nn, rl, nl = nodes(xx, grid)
+        return array_kernels.integrals_nodes_rules(xx, wq, count, x_s, grid, res_x, nrm_x,
+                                                   np.asarray(rn), np.asarray(nn),
+                                                   np.asarray(rl), np.asarray(nl), bt, bq)
     from kappa.core.kernels import (
         callaway_integrals,
         callaway_integrals_free,
@@ -276,9 +282,15 @@ def _integrals_curved(tops: np.ndarray, zbs: np.ndarray, res_x: np.ndarray, nrm_
         res_low = res_low + rl
         nrm_low = nrm_low + nl
         has = True
+    bt, bq = _BLOCK
+    if S < _ARRAY_BELOW:  # numpy: no compiled code to load for a small job
+        from kappa.core.array_kernels import integrals_curved_rules
+
+        return integrals_curved_rules(xx, wq, gp, count, x_s, grid, res_x, nrm_x,
+                                      np.asarray(rn), np.asarray(nn), np.asarray(res_low),
+                                      np.asarray(nrm_low), has, bt, bq)
     from kappa.core.kernels import callaway_integrals_curved
 
-    bt, bq = _BLOCK
     out = np.empty((S, 3))
     callaway_integrals_curved(xx, wq, gp, count, x_s, grid, res_x, nrm_x,
                               np.ascontiguousarray(rn), np.ascontiguousarray(nn),
