@@ -390,3 +390,16 @@ def test_fit_data_column_names_and_units(tmp_path):
     assert d.temperature == pytest.approx([300.0, 400.0, 500.0])
     assert d.kappa_L == pytest.approx([10.0, 6.0, 4.0])  # 1 mW/(cm K) = 0.1 W/(m K)
     assert d.uncertainty == pytest.approx([0.3, 0.2, 0.1])
+
+
+def test_progress_is_reported_through_starts_and_refits():
+    # one unit per start and per diagnostic refit, never going back, ending at the total
+    cfg, k, _ = _synthetic(0.01, 3)
+    calls = []
+    r, _ = _quiet(fit, cfg, fit_data(T_DATA, k), list(TRUE), starts=3,
+                  progress=lambda done, total: calls.append((done, total)))
+    assert calls and all(t == 3 + 2 for _, t in calls)  # 3 starts + 2 refits (one per key)
+    done = [d for d, _ in calls]
+    assert all(b >= a for a, b in zip(done, done[1:], strict=False))
+    assert done[-1] == 5 and any(0 < d < 1 for d in done)
+    assert r.parameters[0].key == "material.gruneisen"

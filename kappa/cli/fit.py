@@ -138,7 +138,7 @@ def fit_command(
     check_out(out, force=force, inputs=inputs)
     try:
         result = fit_series(samples, shared, per, start_values=starts_, bounds=bounds_,
-                            starts=starts, seed=seed)
+                            starts=starts, seed=seed, progress=common.Bar("fit"))
     except ConfigError as exc:
         raise exc.renamed(_flag(exc.key)) from None
     from kappa.presentation.fit import fit_curves

@@ -136,7 +136,7 @@ def fit_step(run: StudyRun) -> None:
     try:
         result = fit_series(samples, opts.shared, opts.per_sample,
                             start_values=opts.start_values, bounds=opts.bounds,
-                            starts=opts.starts, seed=opts.seed)
+                            starts=opts.starts, seed=opts.seed, progress=common.Bar("fit"))
     except KappaError as exc:
         raise exc.renamed(_fit_key(exc.key)) from None
     configs = {s.name: s.config for s in study.samples}

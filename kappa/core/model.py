@@ -15,7 +15,7 @@ error messages:
 :meth:`Model.with_values` sets keys to SI floats or numpy arrays (a batch of parameter sets:
 the evaluator then computes κ_L for every set at once) and re-derives what depends on them
 (θ from a velocity, V₀ from a density) through the one function
-:func:`~kappa.core.material.resolve_material`.
+:func:`~kappa.core.resolve.resolve_material`.
 """
 
 from __future__ import annotations
@@ -33,10 +33,10 @@ from kappa.core.material import (
     Derived,
     Material,
     MaterialSpec,
-    resolve_material,
 )
 from kappa.core.mechanisms import REGISTRY
 from kappa.core.parameters import Parameter
+from kappa.core.resolve import resolve_material
 from kappa.core.scattering import Scattering
 from kappa.errors import ConfigError
 

@@ -21,7 +21,7 @@ to the same data mean anything).
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 
 import numpy as np
 
@@ -52,7 +52,8 @@ FIT_CITATIONS = [
 def fit(model, data: FitData, free: Sequence[str], *,
         start_values: Mapping[str, float] | None = None,
         bounds: Mapping[str, tuple] | None = None, starts: int = 5, seed: int = 0,
-        checks: bool = True) -> FitResult:
+        checks: bool = True, progress: Callable[[float, float], None] | None = None
+        ) -> FitResult:
     """Fit free parameters of ``model`` to measured κ_L(T).
 
     Parameters
@@ -74,6 +75,9 @@ def fit(model, data: FitData, free: Sequence[str], *,
         Seed of the start draws.
     checks : bool
         Run the diagnostics (refits with each parameter held, bipolar check) and warn.
+    progress : callable, optional
+        ``progress(done, total)`` after every model evaluation: one unit per start and per
+        diagnostic refit (a long fit can show how far it is).
 
     Returns
     -------
@@ -81,7 +85,7 @@ def fit(model, data: FitData, free: Sequence[str], *,
     """
     return fit_series([SeriesSample(data.name, model, data)], shared=free, per_sample=(),
                       start_values=start_values, bounds=bounds, starts=starts, seed=seed,
-                      checks=checks)
+                      checks=checks, progress=progress)
 
 
 def _check_keys(shared: Sequence[str], per_sample: Sequence[str],
@@ -110,7 +114,8 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
                per_sample: Sequence[str] = (), *,
                start_values: Mapping[str, float] | None = None,
                bounds: Mapping[str, tuple] | None = None, starts: int = 5, seed: int = 0,
-               checks: bool = True) -> FitResult:
+               checks: bool = True, progress: Callable[[float, float], None] | None = None
+               ) -> FitResult:
     """One joint least-squares fit over several samples.
 
     ``shared`` keys take one value for all samples; ``per_sample`` keys one value per sample.
@@ -185,7 +190,8 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
     nz = problem.size - k  # nuisance scales, started at 0 (their prior's centre)
     start_list = [np.concatenate([s_, np.zeros(nz)])
                   for s_ in seeded_starts(problem.params, problem.u0[:k], int(starts), int(seed))]
-    best, same, nfev = solve(problem, start_list)
+    units = float(len(start_list) + (k if checks else 0))  # starts, then one refit per key
+    best, same, nfev = solve(problem, start_list, progress=progress, total=units)
     u_full = best.u
     r = problem.fun(u_full)
     chi2 = float(r @ r)
@@ -242,7 +248,8 @@ def fit_series(samples: Sequence[SeriesSample], shared: Sequence[str] = (),
                         "give bounds)")
     if checks:
         for i, p in enumerate(params):
-            held, _, more = solve(problem, [u_full], fixed={i: problem.u0[i]})
+            held, _, more = solve(problem, [u_full], fixed={i: problem.u0[i]},
+                                  progress=progress, done=len(start_list) + i, total=units)
             nfev += more
             c_i = float(held.fun @ held.fun)
             delta_bic[p.label] = criteria(c_i, n, k - 1, weighted)[1] - bic

@@ -21,7 +21,7 @@ and band draws cost one kernel call per sample.
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from typing import Any
 
 import numpy as np
@@ -208,11 +208,15 @@ class _Null:
         self.u, self.fun, self.cost, self.status = u, r, 0.5 * float(r @ r), 1
 
 
-def solve(problem: Problem, starts: Sequence[np.ndarray], fixed: Mapping[int, float] = ()
-          ) -> tuple[Any, int, int]:
+def solve(problem: Problem, starts: Sequence[np.ndarray], fixed: Mapping[int, float] = (),
+          progress: Callable[[float, float], None] | None = None, done: float = 0.0,
+          total: float | None = None) -> tuple[Any, int, int]:
     """Run least_squares from each start; return (best result, n reaching the best, nfev).
 
     Trust-region reflective method with bounds in the transformed space (scipy).
+    ``progress(done, total)``, if given, is called after every evaluation: one unit per start,
+    counted from ``done`` out of ``total`` (default: the number of starts); within a start the
+    unit fills as 1 − 1/(1 + evaluations/10), since how many a start needs is not known.
     """
     from scipy.optimize import least_squares  # imported here: keeps `import kappa` fast
 
@@ -227,8 +231,16 @@ def solve(problem: Problem, starts: Sequence[np.ndarray], fixed: Mapping[int, fl
         u[free_idx] = v
         return u
 
+    total = float(len(starts)) if total is None else total
+    counted = {"start": 0, "evaluations": 0}
+
     def fun(v):
-        return problem.fun(full(v))
+        r = problem.fun(full(v))
+        if progress is not None:
+            counted["evaluations"] += 1
+            within = 1.0 - 1.0 / (1.0 + counted["evaluations"] / 10.0)
+            progress(min(done + counted["start"] + within, total), total)
+        return r
 
     def jac(v):
         return problem.jac(full(v), free_idx)
@@ -238,10 +250,13 @@ def solve(problem: Problem, starts: Sequence[np.ndarray], fixed: Mapping[int, fl
         return _Null(base, r), 1, 1
     lo, hi = problem.lo[free_idx], problem.hi[free_idx]
     results, nfev = [], 0
-    for s in starts:
+    for n_start, s in enumerate(starts):
+        counted["start"], counted["evaluations"] = n_start, 0
         x0 = np.clip(np.asarray(s, dtype=float)[free_idx], lo, hi)
         res = least_squares(fun, x0, jac=jac, bounds=(lo, hi), method="trf", x_scale="jac",
                             xtol=1e-10, ftol=1e-12, gtol=1e-10, max_nfev=MAX_EVALUATIONS)
+        if progress is not None:
+            progress(min(done + n_start + 1, total), total)
         nfev += res.nfev
         res.u = full(res.x)
         results.append(res)
