@@ -143,7 +143,7 @@ def fit_command(
         raise exc.renamed(_flag(exc.key)) from None
     from kappa.presentation.fit import fit_curves
 
-    _write(result, fit_curves(result), out, force, inputs, meta, series is not None, configs,
+    write_fit(result, fit_curves(result), out, force, inputs, meta, series is not None, configs,
            series_notes)
     _report(result, out, series is not None, bool(series_notes and _has_note_pairs(
         result, series_notes)))
@@ -247,8 +247,10 @@ def _has_note_pairs(result, notes) -> bool:
     return bool(note_pairs(result, notes))
 
 
-def _write(result, curves, out, force, inputs, meta, is_series: bool, configs,
-           notes=None) -> None:
+def write_fit(result, curves, out, force, inputs, meta, is_series: bool, configs,
+              notes=None) -> None:
+    """Write a fit's folder (``fitted.yaml``, ``fit.json``, tables, figures, ``run.json``)
+    whole or not at all; shared by ``kappa fit`` and the fit step of ``kappa study``."""
     from kappa.io.fitfiles import fit_record, fitted_config_data
     from kappa.io.outdir import output_folder
     from kappa.io.records import dump_yaml, run_record, write_json

@@ -112,7 +112,7 @@ def _fit_key(key: str) -> str:
 
 
 def fit_step(run: StudyRun) -> None:
-    from kappa.cli.fit import _write as write_fit
+    from kappa.cli.fit import write_fit
     from kappa.errors import KappaError
     from kappa.io.config import config_from_dict
     from kappa.io.fitfiles import fitted_config_data, read_fit_data
