@@ -79,7 +79,7 @@ def test_prediction_figures(model, name):
         assert "without point defects" in " ".join(labels)
         values = [1e-6, 3e-7, 1e-7, 3e-8, 1e-8, 3e-9, 1e-9]
         curves = kappa.compare(model, "scattering.boundary.grain_size", values, T)
-        fig = plot_prediction(p, [(f"grain size = {v * 1e9:g} nm", c)
+        fig = plot_prediction(p, [(f"grain size = {v * 1e9:g} nm (scenario)", c)
                                   for v, c in zip(values, curves, strict=True)])
         _clean(fig)
         colors = [ln.get_color() for ln in fig.axes[0].get_lines()[:len(values)]]
@@ -186,3 +186,25 @@ def test_split_and_alloy_figures(name):
     series = alloy_series(a, b, np.linspace(0, 1, 11), [300.0, 600.0])
     with style.context(name):
         _clean(plot_alloy(series, ("HH-4", "HH-9")))
+
+
+@pytest.mark.parametrize("name", STYLES)
+def test_what_if_bands_keep_the_figure_clean(model, name):
+    # the bands of `kappa predict --fit --compare` redraw the legend beside the panel: nothing
+    # may be clipped, in either style (an invented covariance: 5 % on γ, 20 % on grain size)
+    from kappa.presentation.whatif import add_overlay_bands
+    from kappa.workflows.fitting import Covariance
+
+    keys = ("material.gruneisen", "scattering.boundary.grain_size")
+    cov = Covariance(keys, ("log", "log"), tuple(float(model.value(k)) for k in keys),
+                     np.diag([0.05**2, 0.2**2]))
+    T = np.geomspace(20, 900, 40)
+    values = [1e-6, 3e-7, 1e-7, 3e-8, 1e-8]  # enough entries for a legend beside the panel
+    answers = kappa.what_if(model, cov, {keys[1]: values}, T, draws=60)
+    curves = [kappa.predict(model.with_values({keys[1]: v}), T) for v in values]
+    with style.context(name):
+        fig = plot_prediction(kappa.predict(model, T),
+                              [(f"grain size = {v * 1e9:g} nm (scenario)", c)
+                               for v, c in sorted(zip(values, curves, strict=True))],
+                              band=(T, answers.reference_low, answers.reference_high))
+        _clean(add_overlay_bands(fig, answers, np.argsort(values)))

@@ -11,7 +11,7 @@ from typing import Any
 
 import numpy as np
 
-from kappa.presentation.style import sequential_colors
+from kappa.presentation.style import sequential_colors, styled
 from kappa.presentation.sweep import MAX_LINES, MAX_PANELS, pick
 from kappa.workflows.sweep import SweepResult
 from kappa.workflows.whatif import WhatIf
@@ -21,6 +21,7 @@ __all__ = ["add_overlay_bands", "add_sweep_intervals", "add_alloy_bands"]
 _HATCH = "////"
 
 
+@styled
 def add_overlay_bands(fig: Any, w: WhatIf, order: Any = None) -> Any:
     """Bands around the overlays of ``kappa predict --compare``, in the colours of their lines
     (sequential, in the order of the values: ``order`` is ``argsort`` of the values, as the
@@ -42,19 +43,31 @@ def add_overlay_bands(fig: Any, w: WhatIf, order: Any = None) -> Any:
 
 
 def _legend_again(ax) -> None:
-    """Redraw the legend where the figure had it (inside, or beside the panel)."""
+    """Redraw the legend where the figure had it (inside, or beside the panel); a figure with
+    fixed margins is widened by what a longer legend beside the panel needs."""
     from kappa.presentation.predict import add_legend
 
+    fig = ax.figure
+    renderer = fig.canvas.get_renderer()
     old = ax.get_legend()
     beside = old is not None and old.get_bbox_to_anchor().x0 > ax.bbox.x1 - 1
+    before = old.get_window_extent(renderer).width if beside else 0.0
     handles, labels = ax.get_legend_handles_labels()
-    if beside:
-        ax.legend(handles, labels, loc="upper left", bbox_to_anchor=(1.02, 1.0),
-                  borderaxespad=0.0)
-    else:
+    if not beside:
         add_legend(ax, outside_from=len(handles) + 1)
+        return
+    legend = ax.legend(handles, labels, loc="upper left", bbox_to_anchor=(1.02, 1.0),
+                       borderaxespad=0.0)
+    extra = (legend.get_window_extent(renderer).width - before) / fig.dpi
+    if extra > 0 and fig.get_layout_engine() is None:
+        w, h = fig.get_size_inches()
+        pos = ax.get_position()
+        left, right = pos.x0 * w, pos.x1 * w  # keep the panel's size in inches
+        fig.set_size_inches(w + extra, h)
+        fig.subplots_adjust(left=left / (w + extra), right=right / (w + extra))
 
 
+@styled
 def add_sweep_intervals(fig: Any, result: SweepResult, w: WhatIf) -> Any:
     """Line figures: 68 % bands per temperature; maps: hatching where not pinned."""
     shape = tuple(a.values.size for a in result.axes) + (result.temperature.size,)
@@ -92,6 +105,7 @@ def add_sweep_intervals(fig: Any, result: SweepResult, w: WhatIf) -> Any:
     return fig
 
 
+@styled
 def add_alloy_bands(fig: Any, w: WhatIf, most: int = MAX_LINES) -> Any:
     """68 % bands around the alloy lines (colour per temperature as in the alloy figure)."""
     ax = fig.axes[0]
