@@ -220,3 +220,15 @@ def test_free_text_notes_are_ignored(tmp_path):
                  "T [K],kappa [W/(m K)],sigma [S/cm]\n300,1,100\n400,1,90\n500,1,80\n")
     m = read_measurements(p)
     assert m.kappa == pytest.approx([1, 1, 1])
+
+
+def test_several_notes_in_one_comment_line(tmp_path):
+    # a sample-sheet line: notes separated by ';' or ',' before a name; a decimal comma stays
+    flash = tmp_path / "f.txt"
+    flash.write_text("# HH-7, operator Ada; density = 3,08 g/cm^3, mass = 1.2 g\n"
+                     "T (K)\tD (mm2/s)\tcp (J/gK)\tsigma (S/cm)\n300\t2,1\t0,25\t900\n"
+                     "400\t1,9\t0,26\t800\n500\t1,7\t0,27\t700\n", encoding="utf-8")
+    m = read_measurements(flash)
+    assert m.density == pytest.approx(np.full(3, RHO * 1e3))
+    assert m.kappa[0] == pytest.approx(2.1e-6 * RHO * 1e3 * 0.25e3, rel=1e-12)
+    assert any("line 1 'density = 3,08 g/cm^3'" in n for n in m.notes)

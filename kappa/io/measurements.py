@@ -128,13 +128,20 @@ def _read(path: str | Path, separator: str | None, decimal: str | None,
 _NOTE = re.compile(r"^\s*([^\s=:]+(?:\s+[^\s=:]+)*)\s*[=:]\s*(\S.*?)\s*$")
 
 
+#: Notes in one comment line are separated by ';', or by ',' before a name (not a decimal comma).
+_NOTE_SPLIT = re.compile(r";|,(?=\s*[^\W\d])")
+
+
 def file_constants(table: Table) -> list[Constant]:
     """Density or specific heat written once in a comment line: ``# rho = 3.08 g/cm^3``.
 
-    Comment lines naming other things, or without a number, are free text and ignored.
+    One line may hold several notes (``# sample HH-7; density = 7,9 g/cm^3, mass = 1.2 g``).
+    Notes naming other things, or without a number, are free text and ignored.
     """
     found: list[Constant] = []
-    for line, text in table.comments:
+    pieces = [(line, piece) for line, text in table.comments
+              for piece in map(str.strip, _NOTE_SPLIT.split(text))]
+    for line, text in pieces:
         m = _NOTE.match(text)
         if not m:
             continue
