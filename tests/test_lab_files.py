@@ -232,3 +232,14 @@ def test_several_notes_in_one_comment_line(tmp_path):
     assert m.density == pytest.approx(np.full(3, RHO * 1e3))
     assert m.kappa[0] == pytest.approx(2.1e-6 * RHO * 1e3 * 0.25e3, rel=1e-12)
     assert any("line 1 'density = 3,08 g/cm^3'" in n for n in m.notes)
+
+
+@pytest.mark.parametrize("header, quantity", [
+    ("Temp.", "T"), ("Temperature", "T"), ("λ", "kappa"), ("Thermal conductivity", "kappa"),
+    ("Cp", "cp"), ("Seebeck coefficient", "S"), ("Electrical resistivity", "resistivity"),
+])
+def test_column_names_labs_write(header, quantity):
+    # names as lab instruments and sample sheets write them (common practice, no source)
+    from kappa.io.measurements import canonical_name
+
+    assert canonical_name(header) == quantity

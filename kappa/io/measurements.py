@@ -63,12 +63,12 @@ __all__ = ["read_measurements", "ALIASES", "canonical_name", "file_constants",
 _ACCEPTED = ("T [K], kappa [W/(m K)] or D [mm^2/s] + rho [g/cm^3] + cp [J/(g K)], "
              "sigma [S/cm] or resistivity [mOhm cm], S [uV/K]")
 
-#: Other column names accepted for each quantity. Matched after lower-casing and turning spaces
-#: and hyphens into underscores; the unit decides for 'rho'.
+#: Other column names accepted for each quantity. Matched after lower-casing and turning spaces,
+#: hyphens and dots into underscores (``Temp.`` is ``temp``); the unit decides for 'rho'.
 ALIASES: dict[str, tuple[str, ...]] = {
     "T": ("temperature", "temp", "t"),
     "kappa": ("kappa_total", "kappa_tot", "thermal_conductivity", "k_total", "total_kappa",
-              "total_thermal_conductivity", "κ", "κ_total"),
+              "total_thermal_conductivity", "κ", "κ_total", "lambda", "λ"),
     "D": ("diffusivity", "thermal_diffusivity", "alpha_d", "d"),
     "rho": ("density", "ρ"),
     "cp": ("c_p", "specific_heat", "heat_capacity", "specific_heat_capacity"),
@@ -85,7 +85,7 @@ def canonical_name(name: str) -> str:
     """The quantity a column name stands for (``Temperature`` → ``T``), else the name."""
     if name in ALIASES:
         return name
-    key = "_".join(name.strip().lower().replace("-", " ").split())
+    key = "_".join(name.strip().lower().replace("-", " ").replace(".", " ").split())
     return _LOOKUP.get(key, _LOOKUP.get(name, name))
 
 
