@@ -68,7 +68,7 @@ _ACCEPTED = ("T [K], kappa [W/(m K)] or D [mm^2/s] + rho [g/cm^3] + cp [J/(g K)]
 ALIASES: dict[str, tuple[str, ...]] = {
     "T": ("temperature", "temp", "t"),
     "kappa": ("kappa_total", "kappa_tot", "thermal_conductivity", "k_total", "total_kappa",
-              "total_thermal_conductivity", "κ", "κ_total", "lambda", "λ"),
+              "total_thermal_conductivity", "κ", "κ_total", "lambda", "λ", "k"),
     "D": ("diffusivity", "thermal_diffusivity", "alpha_d", "d"),
     "rho": ("density", "ρ"),
     "cp": ("c_p", "specific_heat", "heat_capacity", "specific_heat_capacity"),
