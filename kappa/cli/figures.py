@@ -255,14 +255,15 @@ def _child(jobs_fd: int, result_fd: int, modules: list[str]) -> None:  # pragma:
         _die_with_parent()
         import importlib
 
-        for name in ("kappa.presentation.style", *modules, "matplotlib.backends.backend_svg"):
+        from kappa.presentation import style
+
+        style.load()
+        for name in modules:
             importlib.import_module(name)
         import select
 
         if not select.select([jobs_fd], [], [], 0)[0]:  # the jobs are not there yet
-            from kappa.presentation.style import warm_up
-
-            warm_up()
+            style.warm_up()
         data = _read_all(jobs_fd)
         if data:  # nothing: the command ended without figures
             style, folder, jobs = pickle.loads(data)

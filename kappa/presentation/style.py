@@ -37,7 +37,7 @@ from kappa.core.mechanisms import REGISTRY
 if TYPE_CHECKING:  # matplotlib is loaded when a figure is made, not with this module
     from matplotlib.figure import Figure
 
-__all__ = ["current", "warm_up", "new_figure", "panel_figure", "save", "log_axes", "mechanism_title", "key_label", "unit_text",
+__all__ = ["current", "load", "warm_up", "new_figure", "panel_figure", "save", "log_axes", "mechanism_title", "key_label", "unit_text",
            "value_text", "fill_limits", "round_levels", "sequential_colors", "use", "context",
            "text_problems", "STYLES", "FIGURE_FORMATS", "KAPPA_L_LABEL", "KAPPA_LABEL",
            "T_LABEL", "plot_prediction"]
@@ -160,13 +160,25 @@ def save(fig: Figure, stem: str | Path, formats: Sequence[str] = ("png", "svg"))
     return paths
 
 
-def warm_up() -> None:
-    """Load the text font and build the mathtext parser, which the first figure needs (a
-    figure worker does this while it waits; it changes no figure)."""
-    from matplotlib.font_manager import FontProperties
-    from matplotlib.mathtext import MathTextParser
+def load() -> None:
+    """Import the parts of matplotlib that making and saving a figure needs (a figure worker
+    does this ahead, while the command computes)."""
+    import matplotlib.backends.backend_agg
+    import matplotlib.backends.backend_svg
+    import matplotlib.figure  # noqa: F401
 
-    MathTextParser("agg").parse(KAPPA_L_LABEL, dpi=72, prop=FontProperties())
+
+def warm_up() -> None:
+    """Draw one small figure with math text on log axes: loads the fonts, the mathtext
+    parser and what the first figure needs (a figure worker does this while it waits; it
+    changes no figure)."""
+    fig, axes = new_figure(1.0, 1.0, layout=None)
+    ax = axes[0, 0]
+    ax.loglog([1.0, 10.0], [1.0, 10.0])
+    ax.set_xlabel(T_LABEL)
+    ax.set_ylabel(KAPPA_L_LABEL)
+    ax.set_title("T")
+    fig.canvas.draw()
 
 
 def panel_figure(nrows: int, ncols: int, panel: tuple[float, float] = (3.2, 2.6), *,
