@@ -19,9 +19,9 @@ forked helper where it can. The files are the same either way: a figure with an 
 layout saves all its formats in one process, in the order given (the layout is computed for
 the first format and kept).
 
-Errors in the worker or the helper come back to the parent: a kappa error as itself, anything
-else as a :class:`FigureError` naming it; the command then ends with the usual one ``error:``
-line, and nothing is written. The parent ends its children (SIGKILL, then ``waitpid``) when
+Errors in the worker or the helper come back to the parent as the exception itself (when it
+pickles; else a :class:`FigureError` naming it); the command then ends with the same one
+``error:`` line as when drawing in-process, and nothing is written. The parent ends its children (SIGKILL, then ``waitpid``) when
 the command ends in any way; a child whose parent dies is killed by the system (Linux
 ``PR_SET_PDEATHSIG``) or, waiting for jobs, reads the end of its pipe and leaves.
 """
@@ -126,12 +126,9 @@ def _raise_failure(message: bytes, what: str) -> None:
             text, data = pickle.loads(message[1:])
         except Exception:  # noqa: BLE001 - a damaged report
             text, data = message[1:200].decode(errors="replace"), None
-        if data is not None:
-            from kappa.errors import KappaError
-
-            exc = pickle.loads(data)
-            if isinstance(exc, (KappaError, OSError, MemoryError)):
-                raise exc
+        exc = pickle.loads(data) if data is not None else None
+        if isinstance(exc, Exception):  # as if drawn here: the same one-line message
+            raise exc
         raise FigureError(f"{what} failed: {text}")
     raise FigureError(f"{what} failed: the process ended without a report")
 

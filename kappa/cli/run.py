@@ -152,6 +152,9 @@ class Run:
                         write(tmp)
                 saver.wait()
                 if remote:
+                    from kappa.presentation.terminal import load
+
+                    load()  # the tables printed next: rich loads while the worker draws
                     worker.wait()
             finally:
                 saver.stop()
