@@ -2,7 +2,7 @@
 
 Loading matplotlib takes about as long as a prediction, and drawing and saving a figure about
 as long again; neither needs the other's results until the end. On Linux with two free cores,
-the console entry point (:func:`kappa.cli.main.run`) starts a :class:`FigureWorker` for a
+the console entry point (:func:`kappa.cli.entry.run`) starts a :class:`FigureWorker` for a
 command that draws (:data:`FIGURE_MODULES`) before it parses the command line: a forked
 child imports matplotlib and the command's figure modules and draws one small figure (fonts and
 the mathtext parser are then loaded) while the parent parses, reads the config and computes.
@@ -67,7 +67,7 @@ _state: dict[str, FigureWorker] = {}
 def start(argv: Sequence[str]) -> FigureWorker | None:
     """Start the worker for the command named in ``argv`` where it helps: a command that
     draws, two free cores on Linux, and matplotlib not loaded yet (an in-process caller such
-    as the tests has nothing to gain). Called by the entry points before anything else."""
+    as the tests has nothing to gain). Called by :func:`kappa.cli.entry.run` first thing."""
     if "worker" in _state:
         return _state["worker"]
     command = next((a for a in argv if a in FIGURE_MODULES), None)

@@ -119,9 +119,8 @@ def run() -> None:
 
     warnings.showwarning = _show_warning
     common.quiet_matplotlib_config()
-    from kappa.cli import figures
+    from kappa.cli import figures  # the worker, if kappa.cli.entry started one
 
-    figures.start(sys.argv[1:])  # matplotlib loads in a second process meanwhile
     try:
         application = build_app(_requested(sys.argv[1:]))
         code = application(standalone_mode=False)  # Ctrl-C: typer returns 130
