@@ -182,6 +182,7 @@ def test_no_worker_for_one_process_help_or_other_commands(monkeypatch):
     monkeypatch.delenv("KAPPA_FIGURE_PROCESSES")
     assert figures.start(["predict", "--help"]) is None
     assert figures.start(["split", "a.csv"]) is None
+    assert figures.start(["--debug", "split", "predict"]) is None  # a file named predict
     assert figures.start(["predict", "c.yaml"]) is None  # matplotlib is loaded here already
     assert figures.worker() is None
 

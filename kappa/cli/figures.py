@@ -70,8 +70,8 @@ def start(argv: Sequence[str]) -> FigureWorker | None:
     as the tests has nothing to gain). Called by :func:`kappa.cli.entry.run` first thing."""
     if "worker" in _state:
         return _state["worker"]
-    command = next((a for a in argv if a in FIGURE_MODULES), None)
-    if (command is None or "--help" in argv or "matplotlib" in sys.modules
+    command = next((a for a in argv if not a.startswith("-")), None)  # the command's name
+    if (command not in FIGURE_MODULES or "--help" in argv or "matplotlib" in sys.modules
             or not parallel_figures()):
         return None
     _state["worker"] = FigureWorker(FIGURE_MODULES[command])
