@@ -1,6 +1,6 @@
 """``python -m kappa`` runs the command line."""
 
-from kappa.cli.main import run
+from kappa.cli.entry import run
 
 if __name__ == "__main__":
     run()

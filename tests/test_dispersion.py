@@ -319,3 +319,25 @@ def test_sine_branch_in_every_command(tmp_path):
     fitted = config_from_dict(yaml.safe_load((tmp_path / "f" / "fitted.yaml").read_text()))
     assert fitted.model.value("material.branches.1.gruneisen") == pytest.approx(0.7, rel=1e-5)
     assert fitted.model.material.branches[1].dispersion == "sine"
+
+
+def test_rules_made_together_are_the_rules_made_one_by_one():
+    """curved_rules builds new rules in batches (spectra need one per interval end): the same
+    nodes, weights and factors to the last bit as curved_rule, for both kinds of rule."""
+    from kappa.core import dispersion
+
+    rng = np.random.default_rng(7)
+    zb = np.concatenate([rng.uniform(0.3, 60.0, 150), np.full(50, np.inf), np.full(50, 2.4)])
+    top = np.where(np.isfinite(zb), zb * rng.uniform(0.01, 1.0, zb.size),
+                   rng.uniform(0.01, 50.0, zb.size))
+    dispersion._CACHE.clear()
+    xx, wq, gp, count, _ = dispersion.curved_rules(top, zb)
+    dispersion._CACHE.clear()
+    for i in range(top.size):
+        t = min(float(top[i]), 40.0)
+        x, w, f = dispersion.curved_rule(t, max(float(zb[i]), t))
+        m = x.size
+        assert count[i] == m
+        assert np.array_equal(xx[i, :m], x) and np.all(xx[i, m:] == 1.0)
+        assert np.array_equal(wq[i, :, :m], w) and np.all(wq[i, :, m:] == 0.0)
+        assert np.array_equal(gp[i, :, :m], f) and np.all(gp[i, :, m:] == 1.0)

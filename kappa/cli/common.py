@@ -119,6 +119,8 @@ def handles_errors(func: F | None = None, *, command: str | None = None) -> Any:
             finally:
                 _flush_warnings(caught)
                 _state["depth"] -= 1
+                if not _state["depth"] and "kappa.cli.figures" in sys.modules:
+                    sys.modules["kappa.cli.figures"].stop()  # however the command ended
 
     return wrapper
 

@@ -119,8 +119,10 @@ def run() -> None:
 
     warnings.showwarning = _show_warning
     common.quiet_matplotlib_config()
-    application = build_app(_requested(sys.argv[1:]))
+    from kappa.cli import figures  # the worker, if kappa.cli.entry started one
+
     try:
+        application = build_app(_requested(sys.argv[1:]))
         code = application(standalone_mode=False)  # Ctrl-C: typer returns 130
     except Interrupted as exc:  # SIGTERM or SIGHUP while an output folder was written
         common.echo_err(f"aborted ({signal.Signals(exc.signum).name})")
@@ -143,6 +145,8 @@ def run() -> None:
             sys.exit(getattr(exc, "exit_code", 2))
         common.echo_err(f"error: {exc.format_message()}")
         sys.exit(exc.exit_code if exc.exit_code else 2)
+    finally:
+        figures.stop()
     if code == 130:
         common.echo_err("aborted")
     sys.exit(code if isinstance(code, int) else 0)

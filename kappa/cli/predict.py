@@ -138,25 +138,15 @@ def predict_command(
                            ("kappa_L_ratio_high [1]", answers.ratio_high.ravel()),
                            ("pinned [1]", answers.pinned.ravel().astype(int))]
 
-    from kappa.presentation.predict import plot_prediction
-
-    if fit_band is not None:  # the band is the point of the figure: leave out the other curves
-        import dataclasses
-
-        fig = plot_prediction(dataclasses.replace(prediction, without={}), overlays,
-                              band=(fit_band.temperature, fit_band.low, fit_band.high),
-                              data=data)
-    else:
-        fig = plot_prediction(prediction, overlays)
-    if answers is not None:
-        from kappa.presentation.whatif import add_overlay_bands
-
-        add_overlay_bands(fig, answers, order)
+    band_curves = None if fit_band is None else (fit_band.temperature, fit_band.low,
+                                                 fit_band.high)
     derived = dict(derived_lines(model))
     written = run.table("kappa_L.csv", columns, tables)
     if compared is not None:
         written += run.table("compare.csv", comparison, tables)
-    run.figure("kappa_L", fig, figures)
+    run.figure_job("kappa_L", "kappa.presentation.predict", "prediction_figure", prediction,
+                   overlays, band=band_curves, data=data, answers=answers, order=order,
+                   formats=figures)
     run.record(
         config=str(config),
         overrides=list(set_ or []),

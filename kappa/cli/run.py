@@ -50,6 +50,7 @@ class Run:
         check_out(self.out, force=force, inputs=self.inputs)
         self._writers: list[tuple[str, Callable[[Path], None] | None]] = []
         self._figures: list[tuple[Any, str, str]] = []  # (figure, stem, format)
+        self._jobs: list[tuple] = []  # (module, function, args, kwargs, stem, formats)
         self._record: dict[str, Any] = {}
 
     def table(self, name: str, columns: Sequence[tuple[str, Any]],
@@ -71,6 +72,15 @@ class Run:
     def figure(self, stem: str, fig, formats: Sequence[str] = ("png", "svg")) -> None:
         """A figure written as ``stem.png`` and ``stem.svg`` (or the formats given)."""
         self._figures.extend((fig, stem, fmt) for fmt in formats)
+        self._writers.append((", ".join(f"{stem}.{fmt}" for fmt in formats), None))
+
+    def figure_job(self, stem: str, module: str, function: str, *args: Any,
+                   formats: Sequence[str] = ("png", "svg"), **kwargs: Any) -> None:
+        """A figure made by ``module.function(*args, **kwargs)`` when the run is written, and
+        saved as ``stem.png`` and ``stem.svg`` (or the formats given): in the figure worker
+        when the command has one (:mod:`kappa.cli.figures`), else here. The arguments must
+        pickle (results do); the function runs under the command's figure style."""
+        self._jobs.append((module, function, tuple(args), dict(kwargs), stem, tuple(formats)))
         self._writers.append((", ".join(f"{stem}.{fmt}" for fmt in formats), None))
 
     def text(self, name: str, text: str) -> None:
@@ -110,9 +120,20 @@ class Run:
         tables = [w for name, w in self._writers if name.endswith((".csv", ".parquet"))]
         others = [w for name, w in self._writers
                   if w is not None and not name.endswith((".csv", ".parquet"))]
+        from kappa.cli import figures as workers
+        from kappa.cli.figures import Saver, draw
+
+        worker = workers.worker()
+        remote = bool(self._jobs) and worker is not None and worker.ready
         with output_folder(self.out, force=self.force, inputs=self.inputs) as tmp:
             figures = [(fig, tmp / stem, fmt) for fig, stem, fmt in self._figures]
-            helper = _FigureProcess(figures)  # on two cores: half the figure files in a child
+            if remote:
+                from kappa.presentation.style import current
+
+                worker.send(current(), tmp, self._jobs)
+            elif self._jobs:
+                figures += draw(self._jobs, tmp)
+            saver = Saver(figures)  # on two cores: half the figure files in a helper process
             try:
                 if tables:
                     # tables (numpy/pyarrow, mostly without the GIL) beside the figures (Agg)
@@ -120,110 +141,26 @@ class Run:
 
                     with ThreadPoolExecutor(max_workers=1) as pool:
                         futures = [pool.submit(write, tmp) for write in tables]
-                        helper.save_own()
+                        saver.save_own()
                         for write in others:
                             write(tmp)
                         for f in futures:
                             f.result()
                 else:
-                    helper.save_own()
+                    saver.save_own()
                     for write in others:
                         write(tmp)
-                helper.wait()
+                saver.wait()
+                if remote:
+                    from kappa.presentation.terminal import load
+
+                    load()  # the tables printed next: rich loads while the worker draws
+                    worker.wait()
             finally:
-                helper.stop()
+                saver.stop()
+                if remote:
+                    workers.stop()
             write_json(tmp / "run.json", record)
         if report:
             typer.echo(f"wrote {self.out}/ ({', '.join(self.outputs)})")
         return self.out
-
-
-class _FigureProcess:
-    """Figure files saved in two processes when two cores are free (Linux, fork).
-
-    matplotlib draws in one thread, so a second core helps only from a second process: a
-    forked child saves some of the files (it shares the figures as they are in memory) and
-    exits; the parent saves the others and waits for it. The child is forked before any other
-    thread of the parent starts writing. Elsewhere, or with one file, everything is saved
-    here in order.
-    """
-
-    def __init__(self, jobs: list) -> None:
-        import os
-        import sys
-
-        self.pid = 0
-        self.read_fd = -1
-        self.own = list(jobs)
-        cores = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else 1
-        if (len(jobs) < 2 or cores < 2 or not sys.platform.startswith("linux")
-                or os.environ.get("KAPPA_FIGURE_PROCESSES") == "1"):
-            return
-        # PNG costs about twice an SVG or PDF: give the child about half of the work
-        cost = [2.0 if fmt == "png" else 1.0 for _, _, fmt in jobs]
-        order = sorted(range(len(jobs)), key=lambda i: -cost[i])
-        mine, theirs, a, b = [], [], 0.0, 0.0
-        for i in order:
-            if a <= b:
-                mine.append(jobs[i])
-                a += cost[i]
-            else:
-                theirs.append(jobs[i])
-                b += cost[i]
-        read_fd, write_fd = os.pipe()
-        pid = os.fork()
-        if pid == 0:  # the child: save, report, and leave without any cleanup of the parent
-            os.close(read_fd)
-            code = 0
-            try:
-                _save_all(theirs)
-            except BaseException as exc:  # noqa: BLE001 - reported to the parent
-                os.write(write_fd, f"{type(exc).__name__}: {exc}".encode()[:2000])
-                code = 1
-            os._exit(code)
-        os.close(write_fd)
-        self.pid, self.read_fd, self.own = pid, read_fd, mine
-
-    def save_own(self) -> None:
-        _save_all(self.own)
-
-    def wait(self) -> None:
-        import os
-
-        if not self.pid:
-            return
-        message = b""
-        while chunk := os.read(self.read_fd, 4096):
-            message += chunk
-        _, status = os.waitpid(self.pid, 0)
-        self.pid = 0
-        os.close(self.read_fd)
-        if os.waitstatus_to_exitcode(status) != 0:
-            raise RuntimeError("saving a figure failed: " + (message.decode(errors="replace")
-                                                            or f"status {status}"))
-
-    def stop(self) -> None:
-        """On an error or interrupt: end the child (it writes only into the hidden folder)."""
-        import os
-        import signal
-
-        if self.pid:
-            try:
-                os.kill(self.pid, signal.SIGKILL)
-                os.waitpid(self.pid, 0)
-            except OSError:
-                pass
-            self.pid = 0
-        if self.read_fd >= 0:
-            try:
-                os.close(self.read_fd)
-            except OSError:
-                pass
-            self.read_fd = -1
-
-
-def _save_all(jobs: list) -> None:
-    from kappa.presentation.style import save
-
-    for fig, stem, fmt in jobs:
-        save(fig, stem, (fmt,))

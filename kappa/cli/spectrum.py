@@ -63,13 +63,12 @@ def spectrum_command(
     run = Run("spectrum", out, force=force, inputs=[config])
     sp = spectrum(model, T)
 
-    from kappa.presentation.sweep import plot_cumulative, plot_rates, plot_spectral
 
     run.table("spectrum.csv", sp.columns(), tables)
     written = run.table(MFP_TABLE, sp.mean_free_path_columns(), tables)
-    for name, fig in (("spectral", plot_spectral(sp)), ("cumulative", plot_cumulative(sp)),
-                      ("rates", plot_rates(sp))):
-        run.figure(name, fig, figures)
+    for name, function in (("spectral", "plot_spectral"), ("cumulative", "plot_cumulative"),
+                           ("rates", "plot_rates")):
+        run.figure_job(name, "kappa.presentation.sweep", function, sp, formats=figures)
     derived = dict(derived_lines(model))
     has_normal = bool(model.mechanisms.normal)
     run.record(

@@ -122,14 +122,10 @@ def sweep_command(
     result = sweep(model, axes, T, progress=common.Bar("sweep"), allow_large=yes)
     elapsed = time.perf_counter() - t0
 
-    from kappa.presentation.sweep import plot_sweep
-
     fitted = _fitted(fit if fit is not None else config.parent / "fit.json", axes)
-    fig = plot_sweep(result, fitted=fitted)
     names = result.column_names
     answers = None
     if cov is not None:
-        from kappa.presentation.whatif import add_sweep_intervals
         from kappa.workflows.whatif import what_if
 
         grids = np.meshgrid(*[a.values for a in axes], indexing="ij")
@@ -140,7 +136,6 @@ def sweep_command(
         except ConfigError as exc:
             raise exc.renamed({"draws": "--draws", "seed": "--seed"}.get(exc.key, exc.key)
                               ) from None
-        add_sweep_intervals(fig, result, answers)
     derived = dict(derived_lines(model))
     run.record(
         config=str(config),
@@ -169,7 +164,8 @@ def sweep_command(
                     ("kappa_L_ratio_high [1]", answers.ratio_high.ravel()),
                     ("pinned [1]", answers.pinned.ravel().astype(int))]
     written = run.table("sweep.csv", columns, tables)
-    run.figure("sweep", fig, figures)
+    run.figure_job("sweep", "kappa.presentation.sweep", "sweep_figure", result, fitted,
+                   answers, formats=figures)
     run.finish(report=False)
     for key, text in derived.items():
         common.echo_err(f"derived: {key} = {text}")

@@ -215,16 +215,110 @@ def curved_rules(x_top: np.ndarray, x_zb: np.ndarray):
     gp = np.ones((n, 2, MAX_CURVED_NODES))
     count = np.zeros(n, dtype=np.int64)
     x_s = np.empty(n)
+    curved, straight = [], []  # rules not made yet: made below, each kind together
     for i in range(n):
         top, zb = float(x_top[i]), float(x_zb[i])
-        x, w, f = _cached(top, zb)
+        x_s[i] = _lower(top, zb)
+        hit = _CACHE.get((top, zb))
+        if hit is None and top > 0 and zb >= top:
+            (curved if math.isfinite(zb) and top > S_SWITCH * zb else straight).append(i)
+            continue
+        x, w, f = hit if hit is not None else _cached(top, zb)
         m = x.size
         xx[i, :m] = x
         wq[i, :, :m] = w
         gp[i, :, :m] = f
         count[i] = m
-        x_s[i] = _lower(top, zb)
+    if curved:
+        _curved_together(x_top[curved], x_zb[curved], np.array(curved), xx, wq, gp, count)
+    if straight:
+        _straight_together(x_top[straight], x_zb[straight], np.array(straight), xx, wq, gp,
+                           count)
     return xx, wq, gp, count, x_s
+
+
+def _straight_together(tops: np.ndarray, zbs: np.ndarray, rows: np.ndarray, xx: np.ndarray,
+                       wq: np.ndarray, gp: np.ndarray, count: np.ndarray) -> None:
+    """:func:`curved_rule` for many pairs with x_top ≤ S_SWITCH·x_zb (or a Debye branch) at
+    once: the Debye rules of :func:`kappa.core.quadrature.rules` (the same nodes and weights to
+    the last bit as :func:`~kappa.core.quadrature.rule`) with the F's at their nodes."""
+    x, w, used, _ = _q.rules(tops)
+    m = x.shape[1]
+    inside = np.arange(m) < used[:, None]
+    finite = np.isfinite(zbs)
+    s = np.where(finite[:, None], x / np.where(finite, zbs, 1.0)[:, None], 0.0)
+    g, p = sine_factors(np.where(inside, s, 0.0))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        weights = np.stack([w * g * p * p, w * p**3, w * p**4 / g], axis=1)
+    weights = np.where(inside[:, None, :], weights, 0.0)
+    factors = np.where(inside[:, None, :], np.stack([g, p], axis=1), 1.0)
+    xx[rows, :m] = np.where(inside, x, 1.0)
+    wq[rows, :, :m] = weights
+    gp[rows, :, :m] = factors
+    count[rows] = used
+    for k, row in enumerate(rows.tolist()):
+        if len(_CACHE) >= _CACHE_SIZE:
+            _CACHE.clear()
+        _CACHE[(float(tops[k]), float(zbs[k]))] = (
+            xx[row, :used[k]].copy(), wq[row, :, :used[k]].copy(), gp[row, :, :used[k]].copy())
+
+
+def _curved_together(tops: np.ndarray, zbs: np.ndarray, rows: np.ndarray, xx: np.ndarray,
+                     wq: np.ndarray, gp: np.ndarray, count: np.ndarray) -> None:
+    """:func:`curved_rule` for many pairs with x_top > S_SWITCH·x_zb at once, written into
+    rows ``rows`` of the padded arrays (and the cache): the same operations element by
+    element, so the same nodes and weights to the last bit."""
+    t_rel, q_rel = _LOG_REL
+    t, q = _GL_PHI
+    x_m = np.empty(tops.size)
+    phi_m = np.empty(tops.size)
+    span = np.empty(tops.size)
+    panels = np.empty(tops.size, dtype=np.int64)
+    for k, (top, zb) in enumerate(zip(tops.tolist(), zbs.tolist(), strict=True)):
+        x_m[k] = min(top, _q.X_SWITCH, S_SWITCH * zb)
+        phi_m[k] = math.asin(min(1.0, x_m[k] / zb))
+        span[k] = math.asin(min(1.0, top / zb)) - phi_m[k]
+        panels[k] = max(1, math.ceil(max(span[k] * zb / _q.LIN_WIDTH, span[k] / PHI_WIDTH)
+                                     - 1e-12))
+    # the log panels below x_m
+    x_low = x_m[:, None] * t_rel
+    g, p = sine_factors(x_low / zbs[:, None])
+    w = x_m[:, None] * q_rel * _q.phonon_weight(x_low)
+    w_low = np.stack([w * g * p * p, w * p**3, w * p**4 / g], axis=1)
+    gp_low = np.stack([g, p], axis=1)
+    # the panels in φ, one row of (panel, node) per pair, flattened
+    owner = np.repeat(np.arange(tops.size), panels)
+    panel = np.arange(owner.size) - np.repeat(np.cumsum(panels) - panels, panels)
+    starts = phi_m[owner] + span[owner] * panel / panels[owner]
+    half = 0.5 * span / panels
+    phi = (starts[:, None] + half[owner][:, None] * (t + 1.0)).ravel()
+    qphi = (half[owner][:, None] * q).ravel()
+    node_owner = np.repeat(owner, t.size)
+    zb_node = zbs[node_owner]
+    sn, cs = np.sin(phi), np.cos(phi)
+    x_hi = zb_node * sn
+    p = phi / sn
+    base = qphi * zb_node * _q.phonon_weight(x_hi)
+    w_hi = np.array([base * cs * cs * p * p, base * cs * p**3, base * p**4])
+    gp_hi = np.array([cs, p])
+    m_low = t_rel.size
+    m = m_low + panels * t.size
+    xx[rows, :m_low] = x_low
+    wq[rows, :, :m_low] = w_low
+    gp[rows, :, :m_low] = gp_low
+    first = np.repeat(np.cumsum(m) - m, m - m_low)  # where each pair's φ nodes begin
+    column = m_low + np.arange(node_owner.size) - first + m_low * np.repeat(
+        np.arange(tops.size), m - m_low)
+    at = rows[node_owner]
+    xx[at, column] = x_hi
+    wq[at, :, column] = w_hi.T
+    gp[at, :, column] = gp_hi.T
+    count[rows] = m
+    for k, row in enumerate(rows.tolist()):
+        if len(_CACHE) >= _CACHE_SIZE:
+            _CACHE.clear()
+        _CACHE[(float(tops[k]), float(zbs[k]))] = (
+            xx[row, :m[k]].copy(), wq[row, :, :m[k]].copy(), gp[row, :, :m[k]].copy())
 
 
 def _lower(top: float, zb: float) -> float:

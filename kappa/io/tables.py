@@ -254,11 +254,30 @@ def arrow_array(values: np.ndarray, round_floats: bool = False):
     return pa.Array.from_buffers(types[a.dtype.kind], a.size, [validity, pa.py_buffer(a)])
 
 
+def _csv_array(values: np.ndarray):
+    """A column for pyarrow's CSV writer: numbers rounded to 8 digits; a column that repeats
+    a few values (a sweep's axes) as a dictionary of their texts, so that each distinct value
+    is formatted once (the file is the same)."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    arr = arrow_array(values, round_floats=True)
+    a = np.asarray(values)
+    if arr.null_count or a.dtype.kind not in "fiu" or a.size < ARROW_ROWS:
+        return arr
+    sample = a[:: max(1, a.size // 1000)]
+    if np.unique(sample).size * 4 > sample.size:  # mostly distinct values: as they are
+        return arr
+    coded = pc.dictionary_encode(arr)
+    if len(coded.dictionary) * 4 >= len(arr):
+        return arr
+    return pa.DictionaryArray.from_arrays(coded.indices, pc.cast(coded.dictionary, pa.string()))
+
+
 def _arrow_table(headers: list[str], cols: list):
     import pyarrow as pa
 
-    return pa.Table.from_arrays([arrow_array(c, round_floats=True) for c in cols],
-                                names=headers)
+    return pa.Table.from_arrays([_csv_array(c) for c in cols], names=headers)
 
 
 def _write_arrow(fh, headers: list[str], cols: list) -> bool:

@@ -19,7 +19,8 @@ from kappa.presentation.style import (
 )
 from kappa.workflows.predict import Prediction
 
-__all__ = ["plot_prediction", "add_legend", "short_title", "fixed_margins"]
+__all__ = ["plot_prediction", "prediction_figure", "add_legend", "short_title",
+           "fixed_margins"]
 
 #: Titles longer than this are shortened with "…" (they must fit above the panel).
 TITLE_CHARS = 60
@@ -40,6 +41,24 @@ def add_legend(ax, outside_from: int = 6) -> None:
                   borderaxespad=0.0)
     else:
         ax.legend(handles, labels, loc="best")
+
+
+def prediction_figure(prediction: Prediction,
+                      overlays: Sequence[tuple[str, Prediction]] = (), *, band=None,
+                      data=None, answers=None, order=None):
+    """The figure of ``kappa predict``: :func:`plot_prediction`, with the what-if bands of
+    ``answers`` (:func:`kappa.presentation.whatif.add_overlay_bands`) when given. With a
+    ``band`` the curves of the mechanisms switched off are left out (the band is the point)."""
+    if band is not None:
+        import dataclasses
+
+        prediction = dataclasses.replace(prediction, without={})
+    fig = plot_prediction(prediction, overlays, band=band, data=data)
+    if answers is not None:
+        from kappa.presentation.whatif import add_overlay_bands
+
+        add_overlay_bands(fig, answers, order)
+    return fig
 
 
 @styled

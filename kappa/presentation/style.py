@@ -28,14 +28,16 @@ import math
 import re
 from collections.abc import Iterator, Sequence
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
-from matplotlib.backends.backend_agg import FigureCanvasAgg
-from matplotlib.figure import Figure
 
 from kappa.core.mechanisms import REGISTRY
 
-__all__ = ["new_figure", "panel_figure", "save", "log_axes", "mechanism_title", "key_label", "unit_text",
+if TYPE_CHECKING:  # matplotlib is loaded when a figure is made, not with this module
+    from matplotlib.figure import Figure
+
+__all__ = ["current", "load", "warm_up", "new_figure", "panel_figure", "save", "log_axes", "mechanism_title", "key_label", "unit_text",
            "value_text", "fill_limits", "round_levels", "sequential_colors", "use", "context",
            "text_problems", "STYLES", "FIGURE_FORMATS", "KAPPA_L_LABEL", "KAPPA_LABEL",
            "T_LABEL", "plot_prediction"]
@@ -83,6 +85,11 @@ def use(name: str = "paper") -> None:
     _current["name"] = name
 
 
+def current() -> str:
+    """The name of the current style."""
+    return _current["name"]
+
+
 def styled(func):
     """Run a figure function with the current style's settings (restored afterwards)."""
     import functools
@@ -122,6 +129,9 @@ def new_figure(width: float | None = None, height: float | None = None, nrows: i
                ncols: int = 1, layout: str | None = "constrained", **kwargs
                ) -> tuple[Figure, np.ndarray]:
     """A figure with an Agg canvas and its axes (2-D array). Sizes default to the style's."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
     w0, h0 = base_size()
     scale = w0 / SIZES["paper"][0]
     fig = Figure(figsize=((width or w0 / scale) * scale, (height or h0 / scale) * scale),
@@ -148,6 +158,27 @@ def save(fig: Figure, stem: str | Path, formats: Sequence[str] = ("png", "svg"))
             fig.set_layout_engine("none")  # keep the layout just computed
         paths.append(p)
     return paths
+
+
+def load() -> None:
+    """Import the parts of matplotlib that making and saving a figure needs (a figure worker
+    does this ahead, while the command computes)."""
+    import matplotlib.backends.backend_agg
+    import matplotlib.backends.backend_svg
+    import matplotlib.figure  # noqa: F401
+
+
+def warm_up() -> None:
+    """Draw one small figure with math text on log axes: loads the fonts, the mathtext
+    parser and what the first figure needs (a figure worker does this while it waits; it
+    changes no figure)."""
+    fig, axes = new_figure(1.0, 1.0, layout=None)
+    ax = axes[0, 0]
+    ax.loglog([1.0, 10.0], [1.0, 10.0])
+    ax.set_xlabel(T_LABEL)
+    ax.set_ylabel(KAPPA_L_LABEL)
+    ax.set_title("T")
+    fig.canvas.draw()
 
 
 def panel_figure(nrows: int, ncols: int, panel: tuple[float, float] = (3.2, 2.6), *,

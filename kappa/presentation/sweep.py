@@ -33,7 +33,7 @@ from kappa.presentation.style import (
 from kappa.workflows.spectrum import Spectrum
 from kappa.workflows.sweep import SweepResult
 
-__all__ = ["plot_sweep", "plot_sweep_lines", "plot_sweep_map", "plot_spectral",
+__all__ = ["plot_sweep", "sweep_figure", "plot_sweep_lines", "plot_sweep_map", "plot_spectral",
            "plot_cumulative", "plot_rates", "pick", "MAX_PANELS", "MAX_LINES"]
 
 MAX_PANELS = 6  #: temperatures shown as panels of a map figure
@@ -96,6 +96,17 @@ def _thin(n: int, most: int = MAP_CELLS) -> np.ndarray:
     """Indices of at most ``most`` of ``n`` sorted values, evenly spread, ends included."""
     return np.arange(n) if n <= most else np.unique(np.linspace(0, n - 1, most).round()
                                                     .astype(int))
+
+
+def sweep_figure(result: SweepResult, fitted: dict | None = None, answers=None):
+    """The figure of ``kappa sweep``: :func:`plot_sweep`, with the what-if intervals of
+    ``answers`` (:func:`kappa.presentation.whatif.add_sweep_intervals`) when given."""
+    fig = plot_sweep(result, fitted=fitted)
+    if answers is not None:
+        from kappa.presentation.whatif import add_sweep_intervals
+
+        add_sweep_intervals(fig, result, answers)
+    return fig
 
 
 @styled

@@ -22,6 +22,14 @@ DIGITS = 4
 EXACT_DIGITS = 6
 
 
+
+def load() -> None:
+    """Import rich's table printing ahead (while a figure worker draws)."""
+    import rich.box
+    import rich.console
+    import rich.table
+    import rich.text  # noqa: F401
+
 def format_number(value: float, digits: int = DIGITS) -> str:
     """``value`` with ``digits`` significant figures, plain notation from 1e-3 to 1e7."""
     if isinstance(value, (bool,)):
