@@ -486,3 +486,45 @@ def test_every_table_header_and_record_key_in_the_study_folder_has_one_style(don
         keys = _keys(json.loads(path.read_text(encoding="utf-8")), [])
         bad = [k for k in keys if re.search(r"_(K|eV|s|nm|m)$|_per_", k)]
         assert not bad, (path.relative_to(done.out), bad)
+
+
+def test_split_step_reads_lab_files_as_kappa_split_does(tmp_path):
+    # sample A as a lab keeps it: the flash trio in a sheet of a spreadsheet, the density
+    # given once in the study file, systematic + random uncertainties, an extrapolation
+    # allowance; the study's split equals `kappa split` with the same options
+    import openpyxl
+
+    study = json.loads(json.dumps(STUDY))
+    study["fit"]["window"] = "650K:700K"  # the fit fails: only the split step runs
+    rho, cp = 3.08, 0.25  # g/cm^3, J/(g K) (invented)
+    folder = tmp_path / "in"
+    make_study(folder, study)
+    lines = (folder / "A.csv").read_text(encoding="utf-8").splitlines()
+    rows = [line.split(",") for line in lines[2:]]  # after the note and the header
+    book = openpyxl.Workbook()
+    book.active.title = "notes"
+    sheet = book.create_sheet("A-flash")
+    sheet.append(["T (K)", "D (mm2/s)", "cp (J/(g K))", "sigma (S/cm)", "S (uV/K)"])
+    for r in rows:
+        t, k, s, v = (float(x) for x in r)
+        sheet.append([t, k / (rho * 1e3 * cp * 1e3) * 1e6, cp, s, v])
+    book.save(folder / "A-lab.xlsx")
+    study["samples"][0].update(files=["A-lab.xlsx:A-flash"], density=f"{rho} g/cm^3")
+    study["split"].update(uncertainty={"kappa": "0.06+0.02", "sigma": 0.04, "S": "4%+1%"},
+                          extrapolate="5 K")
+    path = make_study(folder, study)
+    out = tmp_path / "out"
+    r = runner.invoke(app, ["study", str(path), "-o", str(out)])
+    assert r.exit_code == 2 and (out / "1-split" / "A" / "split.csv").is_file(), r.output
+    alone = tmp_path / "alone"
+    r = runner.invoke(app, ["split", str(folder / "A-lab.xlsx:A-flash"), "--density",
+                            f"{rho}g/cm^3", "--uncertainty", "kappa=0.06+0.02,sigma=0.04,"
+                            "S=0.04+0.01", "--extrapolate", "5K", "--draws", "300", "--seed",
+                            "3", "--config", str(folder / "solid.yaml"), "-o", str(alone)])
+    assert r.exit_code == 0, r.output
+    for column in ("kappa_L [W/(m K)]", "kappa_L_err_systematic [W/(m K)]",
+                   "kappa_L_err_random [W/(m K)]", "zT [1]"):
+        np.testing.assert_array_equal(_column(out / "1-split" / "A" / "split.csv", column),
+                                      _column(alone / "split.csv", column))
+    record = json.loads((out / "1-split" / "A" / "run.json").read_text(encoding="utf-8"))
+    assert any("study.samples.0.density" in n for n in record["measurements"]["notes"])

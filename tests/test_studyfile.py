@@ -56,6 +56,19 @@ def test_defaults_and_other_spellings(tmp_path):
     assert s.spectrum_at.size == 0
 
 
+def test_lab_file_options(tmp_path):
+    # systematic+random uncertainties, an extrapolation allowance, values given once, a sheet
+    def change(s):
+        s["split"]["uncertainty"] = {"kappa": "0.08+0.02", "S": "5%+1%", "sigma": 0.04}
+        s["split"]["extrapolate"] = "5 K"
+        s["samples"][0].update(density="3.08 g/cm^3", heat_capacity="0.25 J/(g K)")
+    s = read_study(_study(tmp_path, change))
+    assert s.split.uncertainty == {"kappa": (0.08, 0.02), "S": (0.05, 0.01), "sigma": 0.04}
+    assert s.split.extrapolate == "5 K"
+    assert s.samples[0].density == "3.08 g/cm^3" and s.samples[1].density is None
+    assert s.samples[0].heat_capacity == "0.25 J/(g K)"
+
+
 def _sample(i, **kw):
     return lambda s: s["samples"][i].update(**kw)
 
@@ -83,6 +96,16 @@ def _sample(i, **kw):
      "study.split.uncertainty.kappa", "relative uncertainty"),
     (lambda s: s["split"].update(uncertainty={"seebeck": 0.1}),
      "study.split.uncertainty.seebeck", "unknown key"),
+    (lambda s: s["split"].update(uncertainty={"kappa": "0.08+0.02+0.01"}),
+     "study.split.uncertainty.kappa", "SYSTEMATIC+RANDOM"),
+    (lambda s: s["split"].update(uncertainty={"kappa": "0.08+0.9"}),
+     "study.split.uncertainty.kappa", "between 0 and 0.5"),
+    (lambda s: s["split"].update(extrapolate="5 m"), "study.split.extrapolate",
+     "temperature"),
+    (_sample(0, density="3 K"), "study.samples.0.density", "wrong dimension"),
+    (_sample(0, heat_capacity="-1 J/(g K)"), "study.samples.0.heat_capacity", "> 0"),
+    (_sample(0, files=["A.csv", "nothere.xlsx:Sheet"]), "study.samples.0.files.1",
+     "file not found"),
     (lambda s: s["split"].update(draws=10), "study.split.draws", "from 100"),
     (lambda s: s["split"].update(nan="skip"), "study.split.nan", "raise or omit"),
     (lambda s: s["split"].update(lorenz=1.0), "study.split.lorenz", "near 2e-8"),

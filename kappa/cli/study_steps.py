@@ -30,9 +30,12 @@ __all__ = ["split_step", "fit_step", "spectrum_step", "scenario_step", "report_s
 
 
 def split_step(run: StudyRun) -> None:
+    import dataclasses
+
     from kappa.cli.split import summary_lines, table_columns
     from kappa.errors import DataError
-    from kappa.io.measurements import read_measurements
+    from kappa.io.labfiles import split_sheet
+    from kappa.io.measurements import parse_constants, read_measurements
     from kappa.io.outdir import output_folder
     from kappa.io.records import run_record, write_json
     from kappa.io.tables import write_table
@@ -45,7 +48,12 @@ def split_step(run: StudyRun) -> None:
                "uncertainty": opts.uncertainty, "draws": opts.draws, "seed": opts.seed,
                "fit_window": opts.window}
     for i, s in enumerate(study.samples):
-        m = read_measurements(s.files, nan=opts.nan, composition=s.composition)
+        where = {"--density": f"study.samples.{i}.density",
+                 "--heat-capacity": f"study.samples.{i}.heat_capacity"}
+        constants = [dataclasses.replace(c, where=where[c.where])
+                     for c in parse_constants(s.density, s.heat_capacity)]
+        m = read_measurements(s.files, nan=opts.nan, composition=s.composition,
+                              extrapolate=opts.extrapolate or 0.0, constants=constants)
         if m.seebeck is None and opts.lorenz in ("spb", "kim"):
             raise DataError(f"study.samples.{i}.files", ", ".join(p.name for p in s.files),
                             f"no column 'S [...]': the Lorenz choice {opts.lorenz} needs the "
@@ -71,7 +79,7 @@ def split_step(run: StudyRun) -> None:
             fig = plot_split(r, title=f"{s.name}: " + ", ".join(p.name for p in s.files))
             _save(fig, folder / "split")
             write_json(folder / "run.json", run_record(
-                "split", inputs=[*s.files, study.config_path],
+                "split", inputs=[*(split_sheet(f)[0] for f in s.files), study.config_path],
                 study=str(study.path), sample=s.name, notes=s.notes,
                 options={"files": [str(p) for p in s.files], "lorenz": opts.lorenz,
                          "scattering_exponent": opts.scattering_exponent,
@@ -81,6 +89,8 @@ def split_step(run: StudyRun) -> None:
                          "nan": opts.nan, "draws": opts.draws, "seed": opts.seed,
                          "number_density [1/m^3]": density,
                          "sound_velocities [m/s]": velocities,
+                         "extrapolate": opts.extrapolate, "density": s.density,
+                         "heat_capacity": s.heat_capacity,
                          "config": str(study.config_path)},
                 measurements={"sources": m.sources, "heat_capacity": m.heat_capacity_source,
                               "dropped_rows": list(m.dropped), "notes": list(m.notes),

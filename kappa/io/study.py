@@ -37,6 +37,8 @@ class StudySample:
     window: tuple[float, float] | None
     window_text: str | None
     config: Config = field(repr=False)
+    density: str | None = None  #: given once for the sample (as written, e.g. "3.08 g/cm^3")
+    heat_capacity: str | None = None  #: given once for the sample (e.g. "0.25 J/(g K)")
 
 
 @dataclass(frozen=True)
@@ -45,13 +47,14 @@ class SplitOptions:
 
     lorenz: str | float = "spb"
     scattering_exponent: float = 0.0
-    uncertainty: dict[str, float] = field(default_factory=dict)
+    uncertainty: dict[str, float | tuple[float, float]] = field(default_factory=dict)
     draws: int = 2000
     seed: int = 0
     window: tuple[float, float] | None = None
     window_text: str | None = None
     nan: str = "raise"
     composition: str | None = None
+    extrapolate: str | None = None  #: extrapolation allowance as written (e.g. "5 K")
 
 
 @dataclass(frozen=True)
@@ -126,9 +129,11 @@ class Study:
     @property
     def files(self) -> list[Path]:
         """Every input file: the study file, the config, the measurement files."""
+        from kappa.io.labfiles import split_sheet
+
         out = [self.path, self.config_path]
         for s in self.samples:
-            out += [f for f in s.files if f not in out]
+            out += [f for f in (split_sheet(p)[0] for p in s.files) if f not in out]
         return out
 
     def sample(self, name: str) -> StudySample:

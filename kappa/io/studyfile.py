@@ -13,7 +13,11 @@ the options of the lattice/electronic split, the keys to fit, and the what-if sc
         set: {scattering.boundary.grain_size: 3 um}    # optional: config changes (fit starts)
         window: 300K:700K                              # optional: this sample's fit window
         composition: Mg2Si0.4Sn0.6                     # optional: Dulong-Petit c_p
-    split: {lorenz: spb, uncertainty: {kappa: 0.08}, draws: 2000, seed: 0}
+        density: 3.08 g/cm^3                           # optional: given once (flash data)
+      - name: FH-22
+        files: [FH-22.xlsx:flash, FH-22_electrical.txt]  # a spreadsheet's sheet by name
+    split: {lorenz: spb, uncertainty: {kappa: 0.08+0.02}, draws: 2000, seed: 0,
+            extrapolate: 5 K}
     fit:
       shared: [material.gruneisen]
       per_sample: [scattering.boundary.grain_size]
@@ -62,9 +66,10 @@ __all__ = ["read_study", "STUDY_KEYS", "MAX_SCENARIOS", "MAX_VALUES", "MAX_AT"]
 #: Keys of a study file (``notes`` and ``title`` are free text).
 STUDY_KEYS = ("title", "notes", "config", "samples", "split", "fit", "scenarios", "projection",
               "spectrum")
-_SAMPLE_KEYS = ("name", "files", "notes", "composition", "set", "window")
+_SAMPLE_KEYS = ("name", "files", "notes", "composition", "set", "window", "density",
+                "heat_capacity")
 _SPLIT_KEYS = ("lorenz", "scattering_exponent", "uncertainty", "draws", "seed", "window", "nan",
-               "composition")
+               "composition", "extrapolate")
 _FIT_KEYS = ("shared", "per_sample", "bounds", "window", "starts", "seed")
 _SCENARIO_KEYS = ("name", "changes", "key", "values", "notes")
 _PROJECTION_KEYS = ("sample", "at", "temperature", "draws", "seed")
@@ -117,10 +122,25 @@ def _whole(value: Any, key: str, low: int, high: int, what: str) -> int:
 def _file(base: Path, value: Any, key: str) -> Path:
     if not isinstance(value, str) or not value.strip():
         raise ConfigError(key, value, "must be a file name (relative to the study file)")
+    from kappa.io.labfiles import split_sheet
+
     path = base / value.strip()
-    if not path.is_file():
-        raise ConfigError(key, value, f"file not found (looked for {path})")
+    if not split_sheet(path)[0].is_file():  # book.xlsx:Sheet names a sheet of book.xlsx
+        raise ConfigError(key, value, f"file not found (looked for {split_sheet(path)[0]})")
     return path
+
+
+def _constant(value: Any, key: str, name: str) -> str | None:
+    """A density or specific heat given once for a sample, checked; kept as written."""
+    if value is None:
+        return None
+    from kappa.io.measurements import parse_constants
+
+    try:
+        parse_constants(**{name: str(value)})
+    except KappaError as exc:
+        raise ConfigError(key, value, exc.allowed) from None
+    return str(value)
 
 
 def _window(value: Any, key: str) -> tuple[tuple[float, float] | None, str | None]:
@@ -200,7 +220,10 @@ def _samples(items: Any, base: Path, config: Config, split_composition: str | No
         cfg = sample_config(config, changes, f"{key}.set", f"{config.source} ({name})")
         window, window_text = _window(sec.get("window"), f"{key}.window")
         out.append(StudySample(name, tuple(paths), _text(sec.get("notes"), f"{key}.notes"),
-                               composition, changes, window, window_text, cfg))
+                               composition, changes, window, window_text, cfg,
+                               _constant(sec.get("density"), f"{key}.density", "density"),
+                               _constant(sec.get("heat_capacity"), f"{key}.heat_capacity",
+                                         "heat_capacity")))
     return out
 
 
@@ -225,18 +248,15 @@ def _split(value: Any) -> SplitOptions:
         raise ConfigError("study.split.scattering_exponent", lam, "a number from -0.9 to 4 "
                           "(0 acoustic phonons, 1 polar optical, 2 ionized impurities)")
     unc = _mapping(sec.get("uncertainty"), "study.split.uncertainty", _UNCERTAINTY_KEYS)
-    uncertainty: dict[str, float] = {}
+    uncertainty: dict[str, float | tuple[float, float]] = {}
     for k, v in unc.items():
         where = f"study.split.uncertainty.{k}"
-        if isinstance(v, str) and v.strip().endswith("%"):
-            try:
-                v = float(v.strip()[:-1]) / 100.0
-            except ValueError:
-                raise ConfigError(where, v, "a relative uncertainty, e.g. 0.08 or 8%") from None
-        if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 <= v <= 0.5:
-            raise ConfigError(where, v, "a relative uncertainty between 0 and 0.5 (e.g. 0.08 "
-                              "for 8 %)")
-        uncertainty["sigma" if k == "resistivity" else str(k)] = float(v)
+        parts = re.split(r"(?<![eE])\+", v) if isinstance(v, str) else [v]
+        if len(parts) > 2:
+            raise ConfigError(where, v, "SYSTEMATIC or SYSTEMATIC+RANDOM, e.g. 0.08+0.02")
+        values = [_relative(part, where) for part in parts]
+        name = "sigma" if k == "resistivity" else str(k)
+        uncertainty[name] = values[0] if len(values) == 1 else (values[0], values[1])
     draws = _whole(sec.get("draws", 2000), "study.split.draws", 100, 100_000,
                    "Monte Carlo draws")
     seed = _whole(sec.get("seed", 0), "study.split.seed", 0, 2**32 - 1, "random seed")
@@ -245,8 +265,34 @@ def _split(value: Any) -> SplitOptions:
     if nan not in ("raise", "omit"):
         raise ConfigError("study.split.nan", nan, "raise or omit")
     composition = sec.get("composition")
+    extrapolate = sec.get("extrapolate")
+    if extrapolate is not None:
+        from kappa.io.units import parse_temperature_difference
+        from kappa.workflows.measurements import check_extrapolation
+
+        try:
+            check_extrapolation(parse_temperature_difference(str(extrapolate),
+                                                             "study.split.extrapolate"))
+        except KappaError as exc:
+            raise ConfigError("study.split.extrapolate", extrapolate, exc.allowed) from None
+        extrapolate = str(extrapolate)
     return SplitOptions(lorenz, float(lam), uncertainty, draws, seed, window, window_text, nan,
-                        composition)
+                        composition, extrapolate)
+
+
+def _relative(v: Any, where: str) -> float:
+    """A relative uncertainty: 0.08 or 8%, from 0 to 0.5."""
+    if isinstance(v, str):
+        text = v.strip()
+        try:
+            v = float(text[:-1]) / 100.0 if text.endswith("%") else float(text)
+        except ValueError:
+            raise ConfigError(where, text, "a relative uncertainty, e.g. 0.08 or 8% (or "
+                              "SYSTEMATIC+RANDOM, e.g. 0.08+0.02)") from None
+    if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0 <= v <= 0.5:
+        raise ConfigError(where, v, "a relative uncertainty between 0 and 0.5 (e.g. 0.08 "
+                          "for 8 %; SYSTEMATIC+RANDOM for both parts, e.g. 0.08+0.02)")
+    return float(v)
 
 
 def _key_list(value: Any, key: str) -> list[str]:

@@ -261,7 +261,9 @@ def _inputs(run) -> dict:
             return p.name
 
     def record(p: Path) -> dict:
-        r = file_record(p)
+        from kappa.io.labfiles import split_sheet
+
+        r = file_record(split_sheet(p)[0])  # book.xlsx:Sheet: the book's checksum
         return {"name": rel(p), "bytes": r.get("bytes"), "sha256": r.get("sha256", ""),
                 "error": r.get("error")}
 
@@ -281,14 +283,19 @@ def _options(run) -> list[tuple[str, str]]:
 
     st = run.study
     sp, ft, pj = st.split, st.fit, st.projection
-    unc = {**DEFAULT_UNCERTAINTY, **sp.uncertainty}
+    first = next(iter(run.splits.values()), None)  # the uncertainties the split used
+    if first is not None:
+        unc = {k: (v, first.uncertainty_random.get(k, 0.0))
+               for k, v in first.uncertainty.items()}
+    else:
+        unc = {k: (v, 0.0) for k, v in DEFAULT_UNCERTAINTY.items()}
     lorenz = sp.lorenz if isinstance(sp.lorenz, str) else f"{sp.lorenz:.4g} W Ω/K²"
     if sp.lorenz == "spb":
         lorenz += f" (single parabolic band, scattering exponent λ = {sp.scattering_exponent:g})"
     out = [
         ("Lorenz number", lorenz),
-        ("measurement uncertainties (relative, 1σ)",
-         ", ".join(f"{k} {100 * v:g} %" for k, v in unc.items())),
+        ("measurement uncertainties (relative, 1σ, systematic + random)",
+         ", ".join(f"{k} {100 * v:g} % + {100 * w:g} %" for k, (v, w) in unc.items())),
         ("split Monte Carlo", f"{sp.draws} draws, seed {sp.seed}; bipolar check window "
                               f"{sp.window_text or 'automatic'}; NaN cells: {sp.nan}"),
         ("fitted keys, shared", ", ".join(ft.shared) or "–"),
