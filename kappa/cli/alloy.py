@@ -152,12 +152,7 @@ def alloy_command(
                ("mass_variance [1]", np.repeat(m.mass_variance, nT)),
                ("strain_variance [1]", np.repeat(m.strain_variance, nT))]
     if answers is not None:
-        columns += [("kappa_L_low [W/(m K)]", answers.low.ravel()),
-                    ("kappa_L_high [W/(m K)]", answers.high.ravel()),
-                    ("kappa_L_ratio [1]", answers.ratio.ravel()),
-                    ("kappa_L_ratio_low [1]", answers.ratio_low.ravel()),
-                    ("kappa_L_ratio_high [1]", answers.ratio_high.ravel()),
-                    ("pinned [1]", answers.pinned.ravel().astype(int))]
+        columns += answers.columns()
     for key, values in m.values.items():
         if key.startswith("scattering.point_defect"):
             continue

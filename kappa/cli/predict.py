@@ -131,12 +131,7 @@ def predict_command(
             except ConfigError as exc:
                 raise exc.renamed({"draws": "--draws", "seed": "--seed"}.get(exc.key, exc.key)
                                   ) from None
-            comparison += [("kappa_L_low [W/(m K)]", answers.low.ravel()),
-                           ("kappa_L_high [W/(m K)]", answers.high.ravel()),
-                           ("kappa_L_ratio [1]", answers.ratio.ravel()),
-                           ("kappa_L_ratio_low [1]", answers.ratio_low.ravel()),
-                           ("kappa_L_ratio_high [1]", answers.ratio_high.ravel()),
-                           ("pinned [1]", answers.pinned.ravel().astype(int))]
+            comparison += answers.columns()
 
     band_curves = None if fit_band is None else (fit_band.temperature, fit_band.low,
                                                  fit_band.high)

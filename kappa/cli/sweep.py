@@ -158,11 +158,7 @@ def sweep_command(
         run.record(what_if=what_if_record(answers, fit, seed))
     columns = result.columns()
     if answers is not None:
-        columns += [("kappa_L_low [W/(m K)]", answers.low.ravel()),
-                    ("kappa_L_high [W/(m K)]", answers.high.ravel()),
-                    ("kappa_L_ratio_low [1]", answers.ratio_low.ravel()),
-                    ("kappa_L_ratio_high [1]", answers.ratio_high.ravel()),
-                    ("pinned [1]", answers.pinned.ravel().astype(int))]
+        columns += answers.columns(ratio=False)  # the sweep has its own kappa_L_ratio
     written = run.table("sweep.csv", columns, tables)
     run.figure_job("sweep", "kappa.presentation.sweep", "sweep_figure", result, fitted,
                    answers, formats=figures)

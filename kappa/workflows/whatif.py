@@ -108,6 +108,19 @@ class WhatIf:
         """Number of scenarios."""
         return int(self.kappa_L.shape[0])
 
+    def columns(self, ratio: bool = True) -> list[tuple[str, np.ndarray]]:
+        """The answers as table columns, one row per scenario and temperature (scenario by
+        scenario): ``kappa_L_low``, ``kappa_L_high`` [W/(m K)], ``kappa_L_ratio`` (left out with
+        ``ratio=False``, for tables that have their own), ``kappa_L_ratio_low``,
+        ``kappa_L_ratio_high`` [1] and ``pinned`` (1 or 0)."""
+        cols = [("kappa_L_low [W/(m K)]", self.low.ravel()),
+                ("kappa_L_high [W/(m K)]", self.high.ravel())]
+        if ratio:
+            cols.append(("kappa_L_ratio [1]", self.ratio.ravel()))
+        return cols + [("kappa_L_ratio_low [1]", self.ratio_low.ravel()),
+                       ("kappa_L_ratio_high [1]", self.ratio_high.ravel()),
+                       ("pinned [1]", self.pinned.ravel().astype(int))]
+
     def reason(self, s: int, t: int) -> str:
         """Why scenario ``s`` at temperature index ``t`` is not pinned (``""`` if it is)."""
         why = []
