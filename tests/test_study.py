@@ -528,3 +528,13 @@ def test_split_step_reads_lab_files_as_kappa_split_does(tmp_path):
                                       _column(alone / "split.csv", column))
     record = json.loads((out / "1-split" / "A" / "run.json").read_text(encoding="utf-8"))
     assert any("study.samples.0.density" in n for n in record["measurements"]["notes"])
+
+
+def test_report_figures_have_no_clipped_or_overlapping_text(done):
+    from kappa.presentation import style
+    from kappa.presentation.report import plot_changes, plot_scenarios, plot_zT
+
+    for plot in (plot_scenarios, plot_changes, plot_zT):
+        fig = plot(done)
+        fig.canvas.draw()
+        assert style.text_problems(fig) == [], plot.__name__
