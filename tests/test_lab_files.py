@@ -243,3 +243,51 @@ def test_column_names_labs_write(header, quantity):
     from kappa.io.measurements import canonical_name
 
     assert canonical_name(header) == quantity
+
+
+def test_mutated_lab_files_end_in_the_error_family(tmp_path):
+    # seeded fuzz: random edits of lab files (separators, decimal marks, quotes, units, NaN,
+    # encodings) are read or refused with a KappaError naming the input, never another error
+    import random
+    import warnings
+
+    from kappa.errors import KappaError, KappaWarning
+
+    bases = [
+        "# density = 3,08 g/cm^3; cp = 0.25 J/(g K)\nTemperature (°C);D (mm²/s);sigma (S/cm);"
+        "S (µV/K)\n25;2,10;900;-150\n100;1,90;800;-170\n200;1,70;700;-190\n300;1,55;600;-210\n",
+        "T [K],kappa [W/(m K)],sigma [S/m],S [uV/K]\n300,1.5,1e5,150\n400,1.4,9e4,170\n"
+        "500,1.3,8e4,190\n600,1.2,7e4,200\n",
+        "T (K)\tkappa (W/mK)\tResistivity (mOhm cm)\tSeebeck (uV/K)\n300\t1,5\t1,0\t150\n"
+        "400\t1,4\t1,1\t170\n500\t1,3\t1,2\t190\n",
+    ]
+    pieces = [*";,\t\n.-+eE#[]()°µ0123456789 x\"'=:/\r", "nan", "inf", "1e999", "K", "W/mK"]
+    rng = random.Random(7)
+    for i in range(400):
+        text = list(rng.choice(bases))
+        for _ in range(rng.randint(1, 6)):
+            pos = rng.randrange(len(text) + 1)
+            if rng.random() < 0.4 and text:
+                del text[min(pos, len(text) - 1)]
+            else:
+                text.insert(pos, rng.choice(pieces))
+        path = tmp_path / f"f{i % 5}.csv"
+        path.write_bytes("".join(text).encode(rng.choice(["utf-8", "latin-1"]),
+                                               errors="replace"))
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", KappaWarning)
+            try:
+                read_measurements(path, nan=rng.choice(["raise", "omit"]),
+                                  extrapolate=rng.choice([0, "5K"]))
+            except KappaError:
+                pass
+
+
+def test_a_stray_quote_does_not_join_lines(tmp_path):
+    # a lone '"' in one cell (a typing slip) stays in its line; the rows are read as written
+    p = tmp_path / "q.csv"
+    p.write_text('T [K],kappa [W/(m K)],sigma [S/m],S [uV/K]\n300,1.5,1e5,150\n'
+                 '400,1.4,9e4,"170\n500,1.3,8e4,190\n600,1.2,7e4,200\n', encoding="utf-8")
+    m = read_measurements(p)
+    assert m.temperature == pytest.approx([300, 400, 500, 600])
+    assert m.seebeck == pytest.approx([150e-6, 170e-6, 190e-6, 200e-6])

@@ -199,8 +199,8 @@ def _parse_text(text: str, source: str, separator: str | None,
         samples = [t for _, t in content[1:21]]
         separator = _detect_separator(header_text, samples, source, header_line)
     rows_text = [t for _, t in content]
-    try:
-        parsed = list(csv.reader(rows_text, delimiter=separator))
+    try:  # line by line: a stray quote must not join lines into one row
+        parsed = [next(csv.reader([t], delimiter=separator), []) for t in rows_text]
     except csv.Error as exc:
         raise DataError(source, allowed=f"not a readable table ({exc})") from None
     header = [h.strip() for h in parsed[0]]
