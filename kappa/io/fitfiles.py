@@ -28,6 +28,7 @@ __all__ = [
     "FIT_ALIASES",
     "read_fit_data",
     "parse_free",
+    "key_list",
     "Series",
     "read_series",
     "fit_record",
@@ -218,7 +219,8 @@ class Series:
     notes: dict[str, dict[str, Note]] = field(default_factory=dict)
 
 
-def _key_list(value: Any, key: str) -> list[str]:
+def key_list(value: Any, key: str) -> list[str]:
+    """A list of dotted keys (one key may be written alone); ConfigError naming ``key``."""
     if value is None:
         return []
     if isinstance(value, str):
@@ -250,8 +252,8 @@ def read_series(path: str | Path, *, nan: str = "raise",
     """
     sf = load_series_file(path)
     path, base, data = sf.path, sf.folder, sf.data
-    shared = _key_list(data.get("shared"), "series.shared")
-    per = _key_list(data.get("per_sample"), "series.per_sample")
+    shared = key_list(data.get("shared"), "series.shared")
+    per = key_list(data.get("per_sample"), "series.per_sample")
     bounds = data.get("bounds") or {}
     if not isinstance(bounds, dict):
         raise ConfigError("series.bounds", bounds, "must be a mapping KEY: 'LOW:HIGH'")

@@ -48,7 +48,7 @@ import numpy as np
 from kappa.core.evaluator import T_MAX
 from kappa.errors import ConfigError, KappaError
 from kappa.io.config import Config, config_from_dict, load_config, set_value
-from kappa.io.fitfiles import parse_free
+from kappa.io.fitfiles import key_list, parse_free
 from kappa.io.study import (
     FitOptions,
     Projection,
@@ -295,24 +295,14 @@ def _relative(v: Any, where: str) -> float:
     return float(v)
 
 
-def _key_list(value: Any, key: str) -> list[str]:
-    if value is None:
-        return []
-    if isinstance(value, str):
-        value = [value]
-    if not isinstance(value, list) or not all(isinstance(v, str) for v in value):
-        raise ConfigError(key, value, "must be a list of dotted keys, e.g. [material.gruneisen]")
-    return list(value)
-
-
 def _fit(value: Any, samples: Sequence[StudySample]) -> FitOptions:
     if value is None:
         raise ConfigError("study.fit", allowed="missing; name the keys to fit, e.g. "
                           "fit: {shared: [material.gruneisen], per_sample: "
                           "[scattering.boundary.grain_size]}")
     sec = _mapping(value, "study.fit", _FIT_KEYS)
-    shared = _key_list(sec.get("shared"), "study.fit.shared")
-    per = _key_list(sec.get("per_sample"), "study.fit.per_sample")
+    shared = key_list(sec.get("shared"), "study.fit.shared")
+    per = key_list(sec.get("per_sample"), "study.fit.per_sample")
     if not shared and not per:
         raise ConfigError("study.fit", allowed="name at least one key to fit under shared or "
                           "per_sample ('kappa check CONFIG' lists the keys)")
